@@ -1,0 +1,1 @@
+"""Engineering calculations: pure functions, units in the names (signals, sensors, splits, loop load)."""
