@@ -1,0 +1,3 @@
+from loopdocs.cli import main
+
+main()
