@@ -1,0 +1,26 @@
+"""One module per command; shared option types and the exit-2 path live here."""
+
+from __future__ import annotations
+
+from enum import Enum
+from pathlib import Path
+from typing import Annotated, NoReturn
+
+import typer
+
+from loopdocs.errors import InputError
+
+
+class OutputFormat(str, Enum):
+    text = "text"
+    json = "json"
+
+
+PathArg = Annotated[Path, typer.Argument(help="Index file (.xlsx, .xlsm, .csv) or project folder holding loopdocs.toml.")]
+FormatOpt = Annotated[OutputFormat, typer.Option("--format", "-f", help="text for people, json for tools.")]
+
+
+def fail_input(exc: InputError) -> NoReturn:
+    """Exit 2 with one line on stderr (DESIGN §5)."""
+    typer.echo(f"loopdocs: {exc}", err=True)
+    raise typer.Exit(2)

@@ -1,0 +1,35 @@
+"""``loopdocs check``: findings as a table grouped by loop, or as DESIGN §5 JSON."""
+
+from __future__ import annotations
+
+import json
+import sys
+
+import typer
+
+from loopdocs.commands import FormatOpt, OutputFormat, PathArg, fail_input
+from loopdocs.errors import InputError
+
+
+def check(path: PathArg, format: FormatOpt = OutputFormat.text) -> None:
+    """Check the index: structure, loops and split-range consistency.
+
+    Exit code 0 when no error was found, 1 when one was, 2 when the input could not be read.
+    """
+    from loopdocs.pipeline import check_project
+    from loopdocs.report import check_json, print_check
+
+    try:
+        checked = check_project(path)
+    except InputError as exc:
+        fail_input(exc)
+    if format is OutputFormat.json:
+        json.dump(check_json(checked), sys.stdout, indent=2)
+        sys.stdout.write("\n")
+    else:
+        print_check(checked)
+    raise typer.Exit(1 if any(f.counts_as_error for f in checked.findings) else 0)
+
+
+def register(app: typer.Typer) -> None:
+    app.command()(check)

@@ -1,0 +1,70 @@
+"""The project: where the index is and what ``loopdocs.toml`` says.
+
+A command's PATH is an index file (``.xlsx``, ``.xlsm``, ``.csv``) or a project folder
+holding ``loopdocs.toml``. A ``loopdocs.toml`` beside an index file is read too.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+from pydantic import ValidationError
+
+from loopdocs.errors import InputError
+from loopdocs.model.records import ProjectConfig
+
+CONFIG_NAME = "loopdocs.toml"
+INDEX_SUFFIXES = (".xlsx", ".xlsm", ".csv")
+
+
+@dataclass(frozen=True)
+class ProjectPaths:
+    folder: Path
+    index: Path
+    config_file: Path | None
+
+
+def load_config(path: Path) -> ProjectConfig:
+    """Parse and validate ``loopdocs.toml``; ``InputError`` names the file and the key."""
+    try:
+        data = tomllib.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{path}: cannot read the project config ({exc})") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{path}: not valid TOML ({exc})") from None
+    try:
+        return ProjectConfig.model_validate(data)
+    except ValidationError as exc:
+        first = exc.errors()[0]
+        where = ".".join(str(part) for part in first["loc"])
+        raise InputError(f"{path}: [{where}] {first['msg']}") from None
+
+
+def locate(path: Path) -> ProjectPaths:
+    """Resolve a command's PATH into the index file and the config file (if any)."""
+    path = Path(path)
+    if not path.exists():
+        raise InputError(f"{path}: no such file or folder")
+    if path.is_dir():
+        config_file = path / CONFIG_NAME
+        if not config_file.is_file():
+            raise InputError(f"{path}: a project folder needs a {CONFIG_NAME} (run 'loopdocs init {path}' to start one)")
+        config = load_config(config_file)
+        if config.index.file:
+            index = path / config.index.file
+            if not index.is_file():
+                raise InputError(f"{config_file}: [index] file = {config.index.file!r} does not exist in {path}")
+        else:
+            candidates = sorted(
+                p for p in path.iterdir()
+                if p.suffix.lower() in INDEX_SUFFIXES and not p.name.startswith(("~$", "."))
+            )
+            if len(candidates) != 1:
+                found = ", ".join(p.name for p in candidates) or "none"
+                raise InputError(f"{config_file}: set [index] file = '...'; index files found in {path}: {found}")
+            index = candidates[0]
+        return ProjectPaths(path, index, config_file)
+    beside = path.parent / CONFIG_NAME
+    return ProjectPaths(path.parent, path, beside if beside.is_file() else None)

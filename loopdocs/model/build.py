@@ -1,0 +1,177 @@
+"""Rows of the index -> validated records, and a finding for every cell that could not
+be converted (the cell is then treated as blank, so later checks say they could not
+verify rather than guess).
+
+Rules raised here (all name the cell):
+
+- ``index.no-tag`` (warning): a row with values but no tag; skipped.
+- ``index.bad-tag`` (error): the tag does not follow the tag grammar; row skipped.
+- ``index.duplicate-tag`` (error): the tag appears on an earlier row; this row skipped.
+- ``index.vocabulary`` (error): a value outside its column's vocabulary.
+- ``index.not-a-number`` (error): text in a numeric column.
+- ``index.read`` (warning): something the reader noticed (a formula with no cached value).
+"""
+
+from __future__ import annotations
+
+import re
+from collections import defaultdict
+from typing import Any, Iterable
+
+from loopdocs.findings import Finding, Location, Severity
+from loopdocs.model.records import Loop, Project, ProjectConfig, Tag
+from loopdocs.model.tagname import TagKind, TagParts, compile_tag_pattern, parse_tag, tag_kind
+from loopdocs.model.vocab import VOCAB_COLUMNS
+from loopdocs.read import IndexTable
+from loopdocs.read.columns import NUMERIC_KEYS
+
+_NUMBER_TEXT = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
+
+
+def to_number(value: Any) -> float:
+    """A numeric cell as a float; numbers stored as text are accepted (``" 12.5 "``,
+    ``"48 %"``). ``ValueError`` for anything else.
+
+    >>> to_number("48 %")
+    48.0
+    >>> to_number(7)
+    7.0
+    """
+    if isinstance(value, bool):
+        raise ValueError(f"{value!r} is a true/false value, not a number")
+    if isinstance(value, (int, float)):
+        return float(value)
+    text = str(value).strip().rstrip("%").strip().replace("\u2212", "-")
+    if _NUMBER_TEXT.fullmatch(text):
+        return float(text)
+    raise ValueError(f"{str(value).strip()!r} is not a number")
+
+
+def _text(value: Any) -> str:
+    if isinstance(value, float) and value.is_integer():
+        value = int(value)
+    return str(value).strip()
+
+
+def loop_id_for(given: str | None, parts: TagParts) -> tuple[str, bool]:
+    """The loop id of a tag and whether the Loop cell agrees with the tag.
+
+    A Loop cell agrees when its number is the tag's loop number and its letters (if
+    any) begin with the tag's first letter, and its area prefix (if any) is the tag's:
+    ``T-3105``, ``T3105``, ``3105`` and ``TIC-3105`` all agree with ``TV-3105A``, and
+    the canonical id ``T-3105`` is used. A Loop cell that disagrees is kept as written
+    (the engineer's grouping), and ``loop.mismatch`` reports it.
+
+    >>> loop_id_for("TIC-3105", parse_tag("TV-3105A"))
+    ('T-3105', True)
+    >>> loop_id_for("T-3106", parse_tag("TV-3105A"))
+    ('T-3106', False)
+    """
+    derived = parts.loop_id
+    if not given:
+        return derived, True
+    folded = re.sub(r"[\s_]+", "-", given.strip().upper())
+    match = re.fullmatch(r"(?:([0-9A-Z]*[0-9][0-9A-Z]*)-)?([A-Z]*)-?0*([0-9]+)[A-Z]?", folded)
+    if match:
+        area, letters, number = match.group(1) or "", match.group(2), match.group(3)
+        agrees = (
+            number == parts.number.lstrip("0") or (number == "0" and not parts.number.strip("0"))
+        ) and (not letters or letters[0] == parts.variable[0]) and (not area or area == parts.area)
+        if agrees:
+            return derived, True
+    return given.strip(), False
+
+
+def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tuple[Project, list[Finding]]:
+    """Convert the rows of an index into a ``Project`` and the findings met on the way."""
+    config = config or ProjectConfig()
+    pattern = compile_tag_pattern(config.index.tag_pattern)
+    findings: list[Finding] = [
+        Finding("index.read", Severity.WARNING, notice.message, location=notice.location)
+        for notice in table.notices
+    ]
+    tags: dict[str, Tag] = {}
+    first_row: dict[str, int] = {}
+
+    def at(row: int, key: str) -> Location | None:
+        return table.location(row, key)
+
+    for row in table.rows:
+        raw_tag = row.values.get("tag")
+        if raw_tag is None:
+            findings.append(Finding(
+                "index.no-tag", Severity.WARNING,
+                f"row {row.row} has values but no tag; it was skipped",
+                location=at(row.row, "tag"),
+            ))
+            continue
+        tag_text = _text(raw_tag).upper()
+        try:
+            parts = parse_tag(tag_text, pattern)
+        except ValueError as exc:
+            findings.append(Finding("index.bad-tag", Severity.ERROR, str(exc), tags=(tag_text,), location=at(row.row, "tag")))
+            continue
+        if tag_text in first_row:
+            findings.append(Finding(
+                "index.duplicate-tag", Severity.ERROR,
+                f"{tag_text} is already on row {first_row[tag_text]}; this row was skipped",
+                loop=parts.loop_id, tags=(tag_text,), location=at(row.row, "tag"),
+            ))
+            continue
+        first_row[tag_text] = row.row
+
+        fields: dict[str, Any] = {}
+        for key, value in row.values.items():
+            if key == "tag" or value is None:
+                continue
+            try:
+                if key in VOCAB_COLUMNS:
+                    fields[key] = VOCAB_COLUMNS[key].parse(_text(value))
+                elif key in NUMERIC_KEYS:
+                    fields[key] = to_number(value)
+                else:
+                    fields[key] = _text(value)
+            except ValueError as exc:
+                rule = "index.vocabulary" if key in VOCAB_COLUMNS else "index.not-a-number"
+                findings.append(Finding(
+                    rule, Severity.ERROR, f"{tag_text}: {exc}",
+                    loop=parts.loop_id, tags=(tag_text,), location=at(row.row, key),
+                ))
+        if "driven_by" in fields:
+            fields["driven_by"] = fields["driven_by"].upper()
+        loop_given = fields.pop("loop", None)
+        loop, _ = loop_id_for(loop_given, parts)
+        tags[tag_text] = Tag(
+            tag=tag_text, parts=parts, kind=tag_kind(parts), loop=loop,
+            loop_given=loop_given, row=row.row, extra=dict(row.extra), **fields,
+        )
+
+    project = Project(
+        index_path=str(table.path), sheet=table.sheet,
+        columns=dict(table.columns), extra_columns=dict(table.extra_columns),
+        tags=tags, loops=group_loops(tags.values()), config=config,
+    )
+    return project, findings
+
+
+def natural_key(text: str) -> tuple:
+    """Sort key that orders ``T-9`` before ``T-10``.
+
+    >>> sorted(["T-10", "T-9", "F-100"], key=natural_key)
+    ['F-100', 'T-9', 'T-10']
+    """
+    return tuple((0, int(piece), "") if piece.isdigit() else (1, 0, piece) for piece in re.split(r"(\d+)", text) if piece)
+
+
+def group_loops(tags: Iterable[Tag]) -> dict[str, Loop]:
+    """Loops in natural order of their ids, each with its tags in index order."""
+    members: dict[str, list[Tag]] = defaultdict(list)
+    for tag in tags:
+        members[tag.loop].append(tag)
+    loops: dict[str, Loop] = {}
+    for loop_id in sorted(members, key=natural_key):
+        loop_tags = members[loop_id]
+        controller = next((t for t in loop_tags if t.kind is TagKind.CONTROLLER and t.service), None)
+        first = controller or next((t for t in loop_tags if t.service), None)
+        loops[loop_id] = Loop(id=loop_id, tags=tuple(t.tag for t in loop_tags), service=first.service if first else None)
+    return loops

@@ -1,0 +1,189 @@
+"""Validated records: a tag (one index row), a loop (the tags that share a loop id) and
+the project (all loops, with where each value came from).
+
+Records hold clean values only: enumerations are ``Vocab`` members, numbers are floats,
+blanks are ``None``. Converting a row into a record and reporting what could not be
+converted is ``loopdocs.model.build``; checks read records, never the spreadsheet.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from pydantic import BaseModel, ConfigDict, Field
+
+from loopdocs.findings import Location
+from loopdocs.model.tagname import TagKind, TagParts
+from loopdocs.model.vocab import (
+    AirAction,
+    Characteristic,
+    ControlAction,
+    Effect,
+    FailPosition,
+    Location as MountLocation,
+    Platform,
+    PositionerAction,
+    Sensor,
+    Signal,
+    SplitMethod,
+    Transfer,
+)
+
+
+class Tag(BaseModel):
+    """One instrument, valve or function: one row of the index."""
+
+    model_config = ConfigDict(frozen=True, arbitrary_types_allowed=True)
+
+    tag: str
+    parts: TagParts
+    kind: TagKind
+    loop: str
+    loop_given: str | None = None
+    """The Loop cell as written (``None`` when blank and derived from the tag)."""
+    row: int
+    """Spreadsheet row the tag was read from (1-based)."""
+
+    service: str | None = None
+    pid: str | None = None
+    location: MountLocation | None = None
+    platform: Platform | None = None
+    signal: Signal | None = None
+    range_low: float | None = None
+    range_high: float | None = None
+    units: str | None = None
+    transfer: Transfer | None = None
+    sensor: Sensor | None = None
+    accuracy_pct: float | None = None
+    control_action: ControlAction | None = None
+    air_action: AirAction | None = None
+    fail_position: FailPosition | None = None
+    positioner_action: PositionerAction | None = None
+    driven_by: str | None = None
+    split_method: SplitMethod | None = None
+    co_start_pct: float | None = None
+    co_end_pct: float | None = None
+    travel_start_pct: float | None = None
+    travel_end_pct: float | None = None
+    input_low: float | None = None
+    input_high: float | None = None
+    input_units: str | None = None
+    effect: Effect | None = None
+    cv: float | None = None
+    characteristic: Characteristic | None = None
+    rangeability: float | None = None
+    device_volts: float | None = None
+    loop_volts: float | None = None
+    load_ohm: float | None = None
+    io_address: str | None = None
+    jb: str | None = None
+    jb_terminals: str | None = None
+    cable: str | None = None
+    cabinet: str | None = None
+    cabinet_terminals: str | None = None
+    notes: str | None = None
+    extra: dict[str, Any] = Field(default_factory=dict)
+    """Columns the template does not know, kept as read (header -> value)."""
+
+    @property
+    def is_final_element(self) -> bool:
+        return self.kind is TagKind.FINAL_ELEMENT
+
+    @property
+    def is_controller(self) -> bool:
+        return self.kind is TagKind.CONTROLLER
+
+    @property
+    def has_range(self) -> bool:
+        return self.range_low is not None and self.range_high is not None
+
+
+class Loop(BaseModel):
+    """The tags that share one loop id, in index order."""
+
+    model_config = ConfigDict(frozen=True)
+
+    id: str
+    tags: tuple[str, ...]
+    service: str | None = None
+    """The controller's service if there is one, else the first tag's that has one."""
+
+
+class TitleBlock(BaseModel):
+    """What the title block of every sheet shows (from ``loopdocs.toml``)."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    project: str = "Untitled project"
+    client: str = ""
+    unit: str = ""
+    drawing_number: str = "LS-{loop}"
+    """Pattern for the drawing number; ``{loop}`` is replaced by the loop id."""
+    revision: str = "A"
+    date: str = ""
+    drawn: str = ""
+    checked: str = ""
+    approved: str = ""
+
+
+class AcceptedFinding(BaseModel):
+    """A finding accepted on purpose by engineering review (DESIGN §5)."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    rule: str
+    tag: str
+    reason: str
+    by: str
+
+
+class IndexSettings(BaseModel):
+    model_config = ConfigDict(extra="forbid")
+
+    file: str | None = None
+    """Index file, relative to the project folder; default: the only .xlsx/.xlsm/.csv there."""
+    sheet: str | None = None
+    tag_pattern: str | None = None
+
+
+class ProjectConfig(BaseModel):
+    """The contents of ``loopdocs.toml``; every table is optional."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    index: IndexSettings = Field(default_factory=IndexSettings)
+    columns: dict[str, str] = Field(default_factory=dict)
+    """Extra header map: header as written in the index -> loopdocs column key or header."""
+    title_block: TitleBlock = Field(default_factory=TitleBlock)
+    accept: list[AcceptedFinding] = Field(default_factory=list)
+    sheet: dict[str, Any] = Field(default_factory=dict)
+    """Loop-sheet settings (paper size and the like), read by the renderer."""
+
+
+class Project(BaseModel):
+    """Everything read from one index: tags by name, loops by id, and cell origins."""
+
+    model_config = ConfigDict(frozen=True, arbitrary_types_allowed=True)
+
+    index_path: str
+    sheet: str
+    columns: dict[str, str]
+    """Column key -> column letter in the index (for locating findings)."""
+    extra_columns: dict[str, str] = Field(default_factory=dict)
+    tags: dict[str, Tag]
+    loops: dict[str, Loop]
+    config: ProjectConfig = Field(default_factory=ProjectConfig)
+
+    def cell(self, tag: Tag | None, key: str) -> Location | None:
+        """The index cell that holds ``key`` for ``tag`` (``None`` if the column is absent).
+
+        When the column is absent the Tag cell of the row is returned instead, so a
+        finding still points at the right row.
+        """
+        if tag is None:
+            return None
+        column = self.columns.get(key) or self.columns.get("tag")
+        return Location(self.sheet, tag.row, column) if column else None
+
+    def tags_of(self, loop_id: str) -> list[Tag]:
+        return [self.tags[name] for name in self.loops[loop_id].tags]
