@@ -18,11 +18,12 @@ from __future__ import annotations
 
 import re
 from enum import Enum
-from functools import cache
+from functools import cache, lru_cache
 
 
+@lru_cache(maxsize=4096)
 def fold(text: str) -> str:
-    """Fold a cell for vocabulary lookup.
+    """Fold a cell for vocabulary lookup (cached: an index repeats a few spellings).
 
     >>> fold(" A.T.O. ")
     'ato'
