@@ -1,0 +1,636 @@
+"""Calibration tables: the values to apply and to expect at each test point (DESIGN §4).
+
+Pure functions on numbers; the tables of a whole project are built from its records in
+``loopdocs.calibration``. Percentages run 0 to 100.
+
+Transmitters (and converters such as an I/P), five points rising then falling::
+
+    x = LRV + p * (URV - LRV)                 input at p % of span (LRV > URV: reverse range)
+    q = p (linear) or sqrt(p) (square root)   output fraction
+    S = low + q * (high - low)                output signal (4-20 mA, 3-15 psig, 20-100 kPa)
+
+Square-root convention: the test points are 0, 25, 50, 75 and 100 % of the
+differential-pressure span and the output follows ``sqrt`` (25 % DP = 50 % flow =
+12 mA; ISO 5167-1, common practice). Tolerance = Accuracy % of span, in input units
+(``acc * |URV - LRV|``) and output units (``acc * (high - low)``).
+
+Final elements: the input signal at 0, 25, 50, 75, 100 % travel from the positioner
+input range (or the spring range) of ``loopdocs.calc.split``; the loop check of a split
+group gives the expected travel at every 10 % of controller output.
+
+>>> t = transmitter_table("TT-1", 0.0, 150.0, "degC", MA_4_20)
+>>> [(p.percent, p.input.value, p.output.value) for p in t.points[:3]]
+[(0.0, 0.0, 4.0), (25.0, 37.5, 8.0), (50.0, 75.0, 12.0)]
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+from typing import Any, Iterable, Sequence
+
+from loopdocs.calc.rtd import rtd_resistance_ohm
+from loopdocs.calc.signals import (
+    MA_4_20,
+    NE43Levels,
+    SignalSpan,
+    fraction_of_range,
+    ne43_levels,
+    signal_at_fraction,
+    sqrt_transfer,
+)
+from loopdocs.calc.split import (
+    TRAVEL_TOLERANCE_PCT,
+    DcsScaling,
+    Intent,
+    Settings,
+    intended_travel_pct,
+    max_travel_error,
+    realised_travel_pct,
+)
+from loopdocs.calc.thermocouple import emf_to_simulate_mv
+
+#: Test points, % of span (DESIGN §4).
+FIVE_POINTS_PCT = (0.0, 25.0, 50.0, 75.0, 100.0)
+#: Controller-output step of a split group's loop check, %.
+LOOP_CHECK_STEP_PCT = 10.0
+DIRECTIONS = ("up", "down")
+
+#: Units written in tables for controller output and valve travel.
+CO_UNIT = "% CO"
+TRAVEL_UNIT = "% travel"
+
+#: R0 of the platinum RTDs, ohm (IEC 60751).
+RTD_R0_OHM = {"Pt100": 100.0, "Pt1000": 1000.0}
+
+
+# --------------------------------------------------------------------------- data types
+
+
+def _num(value: float) -> float:
+    """A float for JSON and display: -0.0 becomes 0.0."""
+    value = float(value)
+    return 0.0 if value == 0 else value
+
+
+@dataclass(frozen=True)
+class Quantity:
+    """A value and its unit as written (``"mA"``, ``"degC"``, ``"% travel"``)."""
+
+    value: float
+    unit: str
+
+    def as_json(self) -> dict[str, Any]:
+        return {"value": _num(self.value), "unit": self.unit}
+
+
+@dataclass(frozen=True)
+class Simulated:
+    """What a calibrator sources in place of the process input, and on what basis.
+
+    ``basis`` says how it was obtained (``"IEC 60751 Pt100"``, ``"ITS-90 type K"``,
+    ``"calibrator unit"``, ``"signal at the element"``); ``reference_junction_c`` is set
+    for thermocouple EMF.
+    """
+
+    value: float
+    unit: str
+    basis: str
+    reference_junction_c: float | None = None
+
+    def as_json(self) -> dict[str, Any]:
+        data: dict[str, Any] = {"value": _num(self.value), "unit": self.unit, "basis": self.basis}
+        if self.reference_junction_c is not None:
+            data["reference_junction_c"] = _num(self.reference_junction_c)
+        return data
+
+
+@dataclass(frozen=True)
+class Point:
+    """One test point: apply ``input`` (or the ``simulate`` values), expect ``output``.
+
+    ``percent`` is % of span (transmitters, sensors, converters), % travel (final
+    elements) or % CO (loop check). ``direction`` is the direction the applied input
+    moves to reach the point: ``up`` or ``down``.
+    """
+
+    percent: float
+    input: Quantity
+    output: Quantity
+    direction: str = "up"
+    simulate: tuple[Simulated, ...] = ()
+
+    def as_json(self) -> dict[str, Any]:
+        return {
+            "percent": _num(self.percent),
+            "input": self.input.as_json(),
+            "output": self.output.as_json(),
+            "direction": self.direction,
+            "simulate": [s.as_json() for s in self.simulate],
+        }
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """Allowed error: ``percent_of_span`` of the span, as +/- ``input`` and +/- ``output``."""
+
+    percent_of_span: float
+    input: Quantity | None
+    output: Quantity
+    basis: str
+
+    def as_json(self) -> dict[str, Any]:
+        return {
+            "percent_of_span": _num(self.percent_of_span),
+            "input": self.input.as_json() if self.input else None,
+            "output": self.output.as_json(),
+            "basis": self.basis,
+        }
+
+
+@dataclass(frozen=True)
+class CalibrationTable:
+    """The test points of one tag (or one element in a loop check).
+
+    ``input_range`` and ``output_range`` are the values at 0 % and 100 % (a reverse
+    range has ``input_range[0] > input_range[1]``); the output span used for
+    ``% of span`` errors is ``|output_range[1] - output_range[0]|``.
+    """
+
+    tag: str
+    kind: str
+    points: tuple[Point, ...]
+    tolerance: Tolerance | None
+    input_range: tuple[Quantity, Quantity]
+    output_range: tuple[Quantity, Quantity]
+    notes: tuple[str, ...] = ()
+    loop: str = ""
+    service: str = ""
+    ne43: NE43Levels | None = None
+    dcs_scaling: DcsScaling | None = None
+
+    @property
+    def output_span(self) -> float:
+        """``|output at 100 % - output at 0 %|`` in the output unit."""
+        return abs(self.output_range[1].value - self.output_range[0].value)
+
+    def with_context(self, *, loop: str = "", service: str = "", notes: Iterable[str] = ()) -> "CalibrationTable":
+        """A copy with the loop, service and extra notes set."""
+        return replace(self, loop=loop or self.loop, service=service or self.service, notes=self.notes + tuple(notes))
+
+    def as_json(self) -> dict[str, Any]:
+        """DESIGN §5: ``{tag, kind, points: [{percent, input, output}], tolerance}`` plus extra keys."""
+        data: dict[str, Any] = {
+            "tag": self.tag,
+            "kind": self.kind,
+            "loop": self.loop,
+            "service": self.service,
+            "points": [p.as_json() for p in self.points],
+            "tolerance": self.tolerance.as_json() if self.tolerance else None,
+            "input_range": [q.as_json() for q in self.input_range],
+            "output_range": [q.as_json() for q in self.output_range],
+            "notes": list(self.notes),
+        }
+        if self.ne43 is not None:
+            data["ne43"] = {
+                "measuring_low_ma": self.ne43.measuring_low_ma,
+                "measuring_high_ma": self.ne43.measuring_high_ma,
+                "failure_at_or_below_ma": self.ne43.failure_at_or_below_ma,
+                "failure_at_or_above_ma": self.ne43.failure_at_or_above_ma,
+            }
+        if self.dcs_scaling is not None:
+            data["dcs_scaling"] = {
+                "co_at_0_pct": _num(self.dcs_scaling.co_at_0_pct),
+                "co_at_100_pct": _num(self.dcs_scaling.co_at_100_pct),
+                "reversed": self.dcs_scaling.reversed,
+            }
+        return data
+
+
+# --------------------------------------------------------------------------- helpers
+
+
+def rising_falling(percents: Sequence[float] = FIVE_POINTS_PCT) -> list[tuple[float, str]]:
+    """The points rising, then the same points falling: ``[(0, 'up'), ..., (0, 'down')]``.
+
+    Every point is read in both directions (the 100 % point too, approached from
+    above), so hysteresis can be computed at each one.
+
+    >>> rising_falling((0, 50, 100))
+    [(0.0, 'up'), (50.0, 'up'), (100.0, 'up'), (100.0, 'down'), (50.0, 'down'), (0.0, 'down')]
+    """
+    ordered = sorted(float(p) for p in percents)
+    return [(p, "up") for p in ordered] + [(p, "down") for p in reversed(ordered)]
+
+
+def tolerance_of(
+    accuracy_pct: float | None,
+    input_span: float | None,
+    input_unit: str,
+    output_span: float,
+    output_unit: str,
+    basis: str = "Accuracy % of span (index)",
+) -> Tolerance | None:
+    """Accuracy % of span as +/- input and +/- output units; ``None`` when no accuracy is given.
+
+    >>> tolerance_of(0.25, 45.0, "degC", 16.0, "mA").output
+    Quantity(value=0.04, unit='mA')
+    """
+    if accuracy_pct is None:
+        return None
+    if not (math.isfinite(accuracy_pct) and accuracy_pct > 0):
+        raise ValueError(f"accuracy must be a positive % of span, got {accuracy_pct}")
+    fraction = accuracy_pct / 100.0
+    tol_in = Quantity(fraction * abs(input_span), input_unit) if input_span is not None else None
+    return Tolerance(float(accuracy_pct), tol_in, Quantity(fraction * abs(output_span), output_unit), basis)
+
+
+def zero_note(lrv: float, urv: float, unit: str) -> str | None:
+    """Name an elevated or suppressed zero (ISA-51.1 terms, from memory).
+
+    Elevated zero: the zero of the measured variable is above the lower-range value
+    (``-2500 to 500 mmH2O``, a wet-leg DP level); suppressed zero: it is below it
+    (``2 to 10 barg``). Works on the lower end of a reverse range too.
+
+    >>> zero_note(-3000, -500, "mmH2O")
+    'elevated zero: range -3000 to -500 mmH2O lies below zero at its lower end'
+    >>> zero_note(2, 10, "barg")
+    'suppressed zero: range 2 to 10 barg starts above zero'
+    >>> zero_note(0, 10, "barg") is None
+    True
+    """
+    low = min(lrv, urv)
+    if low < 0:
+        return f"elevated zero: range {lrv:g} to {urv:g} {unit} lies below zero at its lower end"
+    if low > 0:
+        return f"suppressed zero: range {lrv:g} to {urv:g} {unit} starts above zero"
+    return None
+
+
+# --------------------------------------------------------------------------- temperature
+
+
+def temperature_simulation(
+    sensor: str, temp_c: float, reference_junction_c: float | None = None
+) -> tuple[Simulated, ...]:
+    """What to source to make a ``sensor`` input read ``temp_c`` (degC).
+
+    ``Pt100``/``Pt1000``: the IEC 60751 resistance (``rtd.rtd_resistance_ohm``), ohm.
+    Thermocouple (``TC-K`` ...): the ITS-90 EMF with the reference junction at 0 degC
+    and, when ``reference_junction_c`` is given (and not 0), also ``E(t) - E(t_rj)``
+    (``thermocouple.emf_to_simulate_mv``), mV. Raises ValueError outside the sensor's
+    range.
+
+    >>> [round(s.value, 2) for s in temperature_simulation("Pt100", 100.0)]  # IEC 60751: 138.51
+    [138.51]
+    >>> [round(s.value, 3) for s in temperature_simulation("TC-K", 100.0, 25.0)]  # NIST MN 175
+    [4.096, 3.096]
+    """
+    if sensor in RTD_R0_OHM:
+        ohm = rtd_resistance_ohm(temp_c, r0_ohm=RTD_R0_OHM[sensor])
+        return (Simulated(ohm, "ohm", f"IEC 60751 {sensor}"),)
+    tc_type = str(sensor).upper().removeprefix("TC-")
+    result = [Simulated(emf_to_simulate_mv(tc_type, temp_c, 0.0), "mV", f"ITS-90 type {tc_type}", 0.0)]
+    if reference_junction_c is not None and reference_junction_c != 0.0:
+        result.append(
+            Simulated(
+                emf_to_simulate_mv(tc_type, temp_c, reference_junction_c), "mV",
+                f"ITS-90 type {tc_type}", float(reference_junction_c),
+            )
+        )
+    return tuple(result)
+
+
+def _temperature_c(value: float, unit: str) -> float:
+    if unit == "degC":
+        return float(value)
+    from loopdocs.calc.units import convert
+
+    return convert(value, unit, "degC")
+
+
+# --------------------------------------------------------------------------- transmitters
+
+
+def transmitter_table(
+    tag: str,
+    lrv: float,
+    urv: float,
+    input_unit: str,
+    output: SignalSpan | None,
+    transfer: str = "linear",
+    accuracy_pct: float | None = None,
+    *,
+    kind: str = "transmitter",
+    sensor: str | None = None,
+    reference_junction_c: float | None = None,
+    calibrator_unit: str | None = None,
+) -> CalibrationTable:
+    """Five points rising and falling for a transmitter or converter (module docstring).
+
+    ``output`` is the analog output span (``MA_4_20``, ``PSIG_3_15``, ``KPA_20_100``), or
+    ``None`` for a digital output (fieldbus): the reading then is the value in input
+    units (linear) or % of flow (square root). ``sensor`` (``Pt100``, ``TC-K`` ...) adds
+    the resistance or EMF to simulate at each point (``input_unit`` must be a
+    temperature). ``calibrator_unit`` (a pressure unit) adds the input converted to it.
+    Raises ValueError for a zero span, an unknown transfer or units pint cannot convert.
+
+    >>> t = transmitter_table("FT-1", 0.0, 250.0, "mbar", MA_4_20, "sqrt")
+    >>> t.points[1].input.value, t.points[1].output.value  # 25 % DP = 50 % flow = 12 mA
+    (62.5, 12.0)
+    >>> t = transmitter_table("PT-1", 100.0, 0.0, "kPa", MA_4_20)  # reverse range
+    >>> t.points[1].input.value, t.points[1].output.value
+    (75.0, 8.0)
+    """
+    transfer = str(transfer or "linear").lower()
+    if transfer not in ("linear", "sqrt"):
+        raise ValueError(f"transfer must be linear or sqrt, got {transfer!r}")
+    lrv, urv = float(lrv), float(urv)
+    fraction_of_range(lrv, lrv, urv)  # raises on a zero span
+    if output is None:
+        out_unit = "% flow" if transfer == "sqrt" else input_unit
+        out_low, out_high = (0.0, 100.0) if transfer == "sqrt" else (lrv, urv)
+    else:
+        out_unit, out_low, out_high = output.unit, output.low, output.high
+    convert_to = None
+    if calibrator_unit and calibrator_unit != input_unit:
+        from loopdocs.calc.units import convert, is_pressure
+
+        if is_pressure(input_unit) and is_pressure(calibrator_unit):
+            convert_to = lambda x: convert(x, input_unit, calibrator_unit)  # noqa: E731
+    points = []
+    for pct, direction in rising_falling():
+        p = pct / 100.0
+        x = lrv + p * (urv - lrv)
+        q = sqrt_transfer(p) if transfer == "sqrt" else p
+        y = out_low + q * (out_high - out_low)
+        simulate: tuple[Simulated, ...] = ()
+        if sensor:
+            simulate = temperature_simulation(sensor, _temperature_c(x, input_unit), reference_junction_c)
+        elif convert_to is not None:
+            simulate = (Simulated(convert_to(x), calibrator_unit, "calibrator unit"),)
+        points.append(Point(pct, Quantity(x, input_unit), Quantity(y, out_unit), direction, simulate))
+    notes = []
+    if transfer == "sqrt":
+        notes.append(
+            "square root: test points at 0, 25, 50, 75, 100 % of differential pressure; "
+            "output = sqrt(DP fraction) (25 % DP = 50 % flow)"
+        )
+    if lrv > urv:
+        notes.append(f"reverse range: output rises as the input falls from {lrv:g} to {urv:g} {input_unit}")
+    from_unit_note = _zero_note_for(lrv, urv, input_unit)
+    if from_unit_note:
+        notes.append(from_unit_note)
+    if sensor and reference_junction_c not in (None, 0.0) and not sensor.startswith("Pt"):
+        notes.append(
+            f"thermocouple EMF given with the reference junction at 0 degC and at {reference_junction_c:g} degC "
+            "(transmitter terminals); a calibrator with its own reference-junction compensation sources degC directly"
+        )
+    notes.append("approach each falling point from above (go slightly past 100 % first)")
+    return CalibrationTable(
+        tag=tag,
+        kind=kind,
+        points=tuple(points),
+        tolerance=tolerance_of(accuracy_pct, abs(urv - lrv), input_unit, out_high - out_low, out_unit),
+        input_range=(Quantity(lrv, input_unit), Quantity(urv, input_unit)),
+        output_range=(Quantity(out_low, out_unit), Quantity(out_high, out_unit)),
+        notes=tuple(notes),
+        ne43=ne43_levels() if output is not None and output.unit == "mA" and kind == "transmitter" else None,
+    )
+
+
+def _zero_note_for(lrv: float, urv: float, unit: str) -> str | None:
+    """Elevated/suppressed zero is pressure and level language: said only of pressure and length units."""
+    from loopdocs.calc.units import is_length, is_pressure
+
+    if unit in ("degC", "degF", "K", "mA") or not (is_pressure(unit) or is_length(unit)):
+        return None
+    return zero_note(lrv, urv, unit)
+
+
+def sensor_table(
+    tag: str,
+    sensor: str,
+    lrv: float,
+    urv: float,
+    unit: str,
+    accuracy_pct: float | None = None,
+) -> CalibrationTable:
+    """A temperature element checked on its own: apply the temperature, expect ohm or mV.
+
+    Output: IEC 60751 resistance (Pt100, Pt1000) or ITS-90 EMF with the reference
+    junction at 0 degC (thermocouples), at 0, 25, 50, 75, 100 % of the range, rising
+    then falling. Tolerance: Accuracy % of the range span, in degC-span and in the
+    output span (an approximation for a non-linear sensor; the IEC 60751 and
+    IEC 60584-1 class tolerances are not in the index).
+
+    >>> t = sensor_table("TE-1", "Pt100", -100.0, 100.0, "degC")
+    >>> round(t.points[0].output.value, 2), round(t.points[4].output.value, 2)  # IEC 60751 table
+    (60.26, 138.51)
+    """
+    lrv, urv = float(lrv), float(urv)
+    fraction_of_range(lrv, lrv, urv)
+    points = []
+    for pct, direction in rising_falling():
+        x = lrv + pct / 100.0 * (urv - lrv)
+        sim = temperature_simulation(sensor, _temperature_c(x, unit))[0]
+        points.append(Point(pct, Quantity(x, unit), Quantity(sim.value, sim.unit), direction))
+    out_low, out_high = points[0].output, points[4].output
+    notes = [
+        f"{sensor}: " + ("IEC 60751 Callendar-Van Dusen resistance" if sensor in RTD_R0_OHM
+                         else "ITS-90 reference function EMF, reference junction at 0 degC (ice point)"),
+    ]
+    return CalibrationTable(
+        tag=tag,
+        kind="sensor",
+        points=tuple(points),
+        tolerance=tolerance_of(accuracy_pct, abs(urv - lrv), unit, out_high.value - out_low.value, out_low.unit),
+        input_range=(Quantity(lrv, unit), Quantity(urv, unit)),
+        output_range=(out_low, out_high),
+        notes=tuple(notes),
+    )
+
+
+# --------------------------------------------------------------------------- final elements
+
+
+def _positioner_view(settings: Settings) -> Settings:
+    """The same element seen at its positioner input (no control-system scaling)."""
+    return settings if settings.method != "dcs" else replace(settings, method="positioner")
+
+
+def travel_at_signal_pct(settings: Settings, signal: float) -> float:
+    """Travel, %, for a signal at the positioner input, in ``settings.span.unit``.
+
+    The element alone, whatever the split method: ``u``, ``s`` and travel of DESIGN
+    §3.2 (``split.realised_travel_pct`` with the signal as its CO).
+
+    >>> travel_at_signal_pct(Settings("positioner", "ATC", "direct", 4.0, 11.68, MA_4_20), 7.84)
+    50.0
+    """
+    co_pct = 100.0 * (signal - settings.span.low) / settings.span.width
+    return realised_travel_pct(_positioner_view(settings), co_pct)
+
+
+def signal_for_travel(settings: Settings, travel_pct: float) -> float:
+    """Signal at the positioner input (``settings.span.unit``) that gives ``travel_pct``.
+
+    Travel is linear in the signal between the two ends of the input range, so this
+    interpolates between the travel there (0 or 100 %). ValueError outside 0 to 100 %.
+
+    >>> signal_for_travel(Settings("positioner", "ATO", "direct", 12.32, 20.0, MA_4_20), 50.0)
+    16.16
+    """
+    if not 0.0 <= travel_pct <= 100.0:
+        raise ValueError(f"travel must be 0 to 100 %, got {travel_pct}")
+    lo, hi = settings.input_low, settings.input_high
+    t_lo, t_hi = travel_at_signal_pct(settings, lo), travel_at_signal_pct(settings, hi)
+    return lo + (travel_pct - t_lo) / (t_hi - t_lo) * (hi - lo)
+
+
+def _travel_tolerance(accuracy_pct: float | None, input_width: float | None, input_unit: str) -> Tolerance:
+    if accuracy_pct is not None:
+        return tolerance_of(accuracy_pct, input_width, input_unit, 100.0, TRAVEL_UNIT)  # type: ignore[return-value]
+    return tolerance_of(
+        TRAVEL_TOLERANCE_PCT, input_width, input_unit, 100.0, TRAVEL_UNIT,
+        basis=f"{TRAVEL_TOLERANCE_PCT:g} % of travel (DESIGN §3.2; Accuracy % blank in the index)",
+    )  # type: ignore[return-value]
+
+
+def stroke_table(
+    tag: str,
+    settings: Settings,
+    accuracy_pct: float | None = None,
+    dcs_scaling: DcsScaling | None = None,
+) -> CalibrationTable:
+    """Input signal at 0, 25, 50, 75, 100 % travel, signal rising then falling.
+
+    For ``positioner`` and ``pneumatic`` splits the input range is the positioner's
+    (or the actuator spring range); for ``dcs`` splits the positioner takes the full
+    span and ``dcs_scaling`` (the control-system output scaling) is carried with the
+    table. Tolerance: Accuracy % of travel, or 1 % of travel (DESIGN §3.2) when blank.
+
+    >>> t = stroke_table("TV-1", Settings("positioner", "ATC", "direct", 4.0, 11.68, MA_4_20))
+    >>> [(p.input.value, p.output.value) for p in t.points[:3]]
+    [(4.0, 100.0), (5.92, 75.0), (7.84, 50.0)]
+    """
+    unit = settings.span.unit
+    lo, hi = sorted((settings.input_low, settings.input_high))
+    t_at_lo = travel_at_signal_pct(settings, lo)
+    points = []
+    for frac_pct, direction in rising_falling():
+        signal = lo + frac_pct / 100.0 * (hi - lo)
+        travel = t_at_lo + (travel_at_signal_pct(settings, hi) - t_at_lo) * frac_pct / 100.0
+        points.append(Point(travel, Quantity(signal, unit), Quantity(travel, TRAVEL_UNIT), direction))
+    rising = travel_at_signal_pct(settings, hi) > t_at_lo
+    notes = [
+        f"{settings.air_action}, {settings.positioner_action} positioner: travel "
+        + ("opens" if rising else "closes") + f" as the signal rises from {lo:g} to {hi:g} {unit}",
+    ]
+    if settings.method == "pneumatic":
+        notes.append("pneumatic split: the range is the positioner input range, or the actuator spring range without positioner")
+    if settings.method == "dcs":
+        sc = dcs_scaling
+        if sc is not None:
+            notes.append(
+                f"control-system output scaling: output 0 % at CO {sc.co_at_0_pct:g} %, 100 % at CO "
+                f"{sc.co_at_100_pct:g} %" + (" (reversed)" if sc.reversed else "")
+            )
+    return CalibrationTable(
+        tag=tag,
+        kind="final element",
+        points=tuple(points),
+        tolerance=_travel_tolerance(accuracy_pct, hi - lo, unit),
+        input_range=(Quantity(lo, unit), Quantity(hi, unit)),
+        output_range=(Quantity(t_at_lo, TRAVEL_UNIT), Quantity(travel_at_signal_pct(settings, hi), TRAVEL_UNIT)),
+        notes=tuple(notes),
+        dcs_scaling=dcs_scaling if settings.method == "dcs" else None,
+    )
+
+
+def element_signal_at_co(settings: Settings, co_pct: float, dcs_scaling: DcsScaling | None = None) -> float:
+    """Signal at the element's input for a CO, %: the shared output ``low + width * CO``, or
+    for ``dcs`` the element's own output after the control-system scaling.
+
+    >>> element_signal_at_co(Settings("dcs", "ATO", "direct", 4, 20, MA_4_20), 75.0, DcsScaling(50, 100))
+    12.0
+    """
+    if settings.method == "dcs":
+        out_pct = (dcs_scaling or DcsScaling(0.0, 100.0)).output_pct(co_pct)
+        return signal_at_fraction(settings.span, out_pct / 100.0)
+    return signal_at_fraction(settings.span, co_pct / 100.0)
+
+
+def loop_check_table(
+    tag: str,
+    intent: Intent,
+    settings: Settings | None = None,
+    dcs_scaling: DcsScaling | None = None,
+    accuracy_pct: float | None = None,
+    step_pct: float = LOOP_CHECK_STEP_PCT,
+) -> CalibrationTable:
+    """Expected travel of one element of a split group at every ``step_pct`` of CO, rising then falling.
+
+    Expected travel is the intent (``split.intended_travel_pct``); with ``settings`` the
+    signal at the element is shown at each point, and a note is added when the settings
+    do not realise the intent within 1 % of travel (``split.max_travel_error``).
+
+    >>> t = loop_check_table("TV-1", Intent(52, 100, 0, 100))
+    >>> [round(p.output.value, 2) for p in t.points[5:8]]  # CO 50, 60, 70 %
+    [0.0, 16.67, 37.5]
+    """
+    n = int(round(100.0 / step_pct))
+    cos = [100.0 * k / n for k in range(n + 1)]
+    points = []
+    for co, direction in rising_falling(cos):
+        simulate: tuple[Simulated, ...] = ()
+        if settings is not None:
+            simulate = (
+                Simulated(element_signal_at_co(settings, co, dcs_scaling), settings.span.unit, "signal at the element"),
+            )
+        points.append(
+            Point(co, Quantity(co, CO_UNIT), Quantity(intended_travel_pct(intent, co), TRAVEL_UNIT), direction, simulate)
+        )
+    notes = [
+        f"intent: travel {intent.travel_start_pct:g} % at CO {intent.co_start_pct:g} %, "
+        f"{intent.travel_end_pct:g} % at CO {intent.co_end_pct:g} %, held outside"
+    ]
+    if settings is not None:
+        err, at_co = max_travel_error(intent, settings, dcs_scaling)
+        if err > TRAVEL_TOLERANCE_PCT:
+            notes.append(
+                f"the settings do not realise this intent: {err:.1f} % travel off at CO {at_co:g} % "
+                "(see loopdocs check)"
+            )
+    tol = _travel_tolerance(accuracy_pct, None, CO_UNIT)
+    return CalibrationTable(
+        tag=tag,
+        kind="loop check",
+        points=tuple(points),
+        tolerance=tol,
+        input_range=(Quantity(0.0, CO_UNIT), Quantity(100.0, CO_UNIT)),
+        output_range=(Quantity(0.0, TRAVEL_UNIT), Quantity(100.0, TRAVEL_UNIT)),
+        notes=tuple(notes),
+        dcs_scaling=dcs_scaling if settings is not None and settings.method == "dcs" else None,
+    )
+
+
+def converter_table(
+    tag: str,
+    input_span: SignalSpan = MA_4_20,
+    output_span: SignalSpan | None = None,
+    accuracy_pct: float | None = None,
+) -> CalibrationTable:
+    """I/P (or any signal converter) table: input signal in, output signal out, linear.
+
+    >>> from loopdocs.calc.signals import PSIG_3_15
+    >>> t = converter_table("PY-1", MA_4_20, PSIG_3_15)
+    >>> [(p.input.value, p.output.value) for p in t.points[:5]]
+    [(4.0, 3.0), (8.0, 6.0), (12.0, 9.0), (16.0, 12.0), (20.0, 15.0)]
+    """
+    from loopdocs.calc.signals import PSIG_3_15
+
+    return transmitter_table(
+        tag, input_span.low, input_span.high, input_span.unit, output_span or PSIG_3_15,
+        "linear", accuracy_pct, kind="converter",
+    )

@@ -1,0 +1,188 @@
+"""Engineering units of the index, converted with one lazily created pint registry.
+
+The registry is built on first use (importing this module does not import pint), so
+commands that never convert a unit stay fast. It adds the trade's spellings pint lacks:
+
+- gauge and absolute pressure units ``psig``, ``psia``, ``barg``, ``bara``, ``kPag``,
+  ``kPaa`` (with SI prefixes, so ``mbarg`` and ``MPag`` work). A gauge unit converts
+  to another gauge unit or a plain one by its scale alone; gauge to absolute needs the
+  atmospheric pressure and is refused;
+- ``mmWC``, ``inWC`` and ``ftWC`` for the conventional water columns pint names
+  ``mmH2O``, ``inH2O`` and ``ftH2O`` (NIST SP 811 appendix B: 1 mmH2O = 9.80665 Pa,
+  1 inH2O = 249.0889 Pa, conventional, at 4 degC and standard gravity; from memory);
+- ``gpm`` (US gallon per minute);
+- written forms ``m3/h``, ``m³/h``, ``Nm3/h`` (read as m**3/h), ``°C``, ``deg C``,
+  ``°F``.
+
+>>> round(convert(1.0, "barg", "psig"), 4)
+14.5038
+>>> convert(250.0, "mbar", "kPa")
+25.0
+"""
+
+from __future__ import annotations
+
+import re
+from functools import cache
+from typing import Any
+
+#: Unit spellings that mean a pressure above atmospheric (gauge).
+GAUGE_UNITS = ("psig", "barg", "kPag", "MPag", "mbarg")
+#: Unit spellings that mean an absolute pressure.
+ABSOLUTE_UNITS = ("psia", "bara", "kPaa", "MPaa", "mbara")
+
+_DEFINITIONS = (
+    "psig = pound_force_per_square_inch",
+    "psia = pound_force_per_square_inch",
+    "barg = bar",
+    "bara = bar",
+    "Pag = pascal",
+    "Paa = pascal",
+    "mmWC = millimeter_H2O",
+    "inWC = inch_H2O",
+    "ftWC = foot_H2O",
+    "gpm = gallon / minute",
+)
+
+_WRITTEN = {
+    "°c": "degC", "ºc": "degC", "deg c": "degC", "degc": "degC", "celsius": "degC",
+    "°f": "degF", "ºf": "degF", "deg f": "degF", "degf": "degF", "fahrenheit": "degF",
+    "kpag": "kPag", "kpaa": "kPaa", "mpag": "MPag", "mpaa": "MPaa", "kpa": "kPa", "mpa": "MPa",
+    "mmh2o": "mmH2O", "inh2o": "inH2O", "mmwc": "mmWC", "inwc": "inWC", "ftwc": "ftWC",
+    "ohms": "ohm", "ω": "ohm",
+}
+
+
+@cache
+def registry() -> Any:
+    """The one pint ``UnitRegistry`` of loopdocs, with the trade units added (built once)."""
+    import pint
+
+    ureg = pint.UnitRegistry()
+    for line in _DEFINITIONS:
+        ureg.define(line)
+    return ureg
+
+
+def unit_expression(text: str) -> str:
+    """The pint expression for a unit as written in an index.
+
+    Powers written as digits or superscripts become ``**``; ``Nm3`` (normal cubic
+    metres) is read as a volume; common spellings are mapped (see the module docstring).
+
+    >>> unit_expression("m3/h"), unit_expression("Nm³/h"), unit_expression("°C")
+    ('m**3/h', 'm**3/h', 'degC')
+    """
+    raw = str(text).strip()
+    folded = raw.lower().replace("  ", " ")
+    if folded in _WRITTEN:
+        return _WRITTEN[folded]
+    expr = raw.replace("³", "3").replace("²", "2")
+    expr = re.sub(r"\bNm(?=3)", "m", expr)
+    expr = re.sub(r"(?<=[A-Za-z])([23])\b", r"**\1", expr)
+    return expr
+
+
+def _reference(unit: str) -> str:
+    """'gauge', 'absolute' or '' (neither stated) for a pressure unit as written."""
+    expr = unit_expression(unit)
+    if expr in GAUGE_UNITS or expr.endswith(("psig", "barg", "Pag")):
+        return "gauge"
+    if expr in ABSOLUTE_UNITS or expr.endswith(("psia", "bara", "Paa")):
+        return "absolute"
+    return ""
+
+
+def parse_unit(text: str) -> Any:
+    """The pint unit for ``text``; ValueError naming the unit when pint does not know it."""
+    if text is None or not str(text).strip():
+        raise ValueError("no unit given")
+    try:
+        return registry().Unit(unit_expression(text))
+    except Exception:  # pint raises several kinds (undefined unit, syntax)
+        raise ValueError(f"unit {text!r} is not known (write it as pint reads it, e.g. degC, barg, m3/h)") from None
+
+
+def same_dimension(unit_a: str, unit_b: str) -> bool:
+    """True when both units measure the same quantity (pressure and pressure, ...).
+
+    >>> same_dimension("inH2O", "kPa"), same_dimension("mm", "kPa")
+    (True, False)
+    """
+    try:
+        return parse_unit(unit_a).dimensionality == parse_unit(unit_b).dimensionality
+    except ValueError:
+        return False
+
+
+def is_temperature(unit: str) -> bool:
+    """True for a temperature unit (degC, degF, K, degR)."""
+    try:
+        return parse_unit(unit).dimensionality == registry().Unit("kelvin").dimensionality
+    except ValueError:
+        return False
+
+
+def is_pressure(unit: str) -> bool:
+    """True for a pressure unit, gauge, absolute or differential (kPa, barg, inH2O ...)."""
+    try:
+        return parse_unit(unit).dimensionality == registry().Unit("pascal").dimensionality
+    except ValueError:
+        return False
+
+
+def is_length(unit: str) -> bool:
+    """True for a length unit (a level range in mm, m, ft)."""
+    try:
+        return parse_unit(unit).dimensionality == registry().Unit("meter").dimensionality
+    except ValueError:
+        return False
+
+
+def convert(value: float, from_unit: str, to_unit: str) -> float:
+    """``value`` in ``from_unit`` expressed in ``to_unit`` (a point value, offsets applied).
+
+    Temperatures convert as points (``-5 degC`` is ``23 degF``); use
+    :func:`convert_difference` for a span or a tolerance. Gauge to absolute pressure
+    (or back) is refused: it depends on the atmospheric pressure, which the index does
+    not give. Raises ValueError for unknown or incompatible units.
+
+    >>> round(convert(-5.0, "degC", "degF"), 6)
+    23.0
+    >>> round(convert(1.0, "psi", "kPa"), 6)  # NIST SP 811: 1 psi = 6.894757 kPa
+    6.894757
+    """
+    _check_reference(from_unit, to_unit)
+    ureg = registry()
+    try:
+        return float(ureg.Quantity(float(value), parse_unit(from_unit)).to(parse_unit(to_unit)).magnitude)
+    except ValueError:
+        raise
+    except Exception as exc:  # DimensionalityError and kin
+        raise ValueError(f"cannot convert {from_unit!r} to {to_unit!r}: {exc}") from None
+
+
+def convert_difference(value: float, from_unit: str, to_unit: str) -> float:
+    """A difference (span, tolerance) in ``from_unit`` expressed in ``to_unit``: no offset.
+
+    >>> round(convert_difference(1.0, "degC", "degF"), 6)
+    1.8
+    """
+    _check_reference(from_unit, to_unit)
+    ureg = registry()
+    try:
+        zero = ureg.Quantity(0.0, parse_unit(from_unit)).to(parse_unit(to_unit)).magnitude
+        one = ureg.Quantity(float(value), parse_unit(from_unit)).to(parse_unit(to_unit)).magnitude
+    except ValueError:
+        raise
+    except Exception as exc:
+        raise ValueError(f"cannot convert {from_unit!r} to {to_unit!r}: {exc}") from None
+    return float(one - zero)
+
+
+def _check_reference(from_unit: str, to_unit: str) -> None:
+    a, b = _reference(from_unit), _reference(to_unit)
+    if a and b and a != b:
+        raise ValueError(
+            f"cannot convert {from_unit} ({a}) to {to_unit} ({b}): the atmospheric pressure is not known"
+        )
