@@ -1,0 +1,274 @@
+"""Read an instrument index from an ``.xlsx`` / ``.xlsm`` workbook (python-calamine).
+
+Cells are read as the workbook last saved them: a formula gives its cached value. A
+formula cell with no cached value (a workbook written by a program that does not
+calculate, never opened in a spreadsheet program) and a cell holding a spreadsheet error
+(``#N/A``) read as blank, each with a :class:`ReadNotice` at that cell. Merged cells: the
+top-left value is repeated down the rows of the merged range (one Loop or Service cell
+spanning the rows of a loop).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import posixpath
+import re
+import zipfile
+from pathlib import Path
+from typing import Any
+
+from loopdocs.errors import InputError
+from loopdocs.findings import Location
+from loopdocs.read.grid import (
+    HEADER_SEARCH_ROWS,
+    build_table,
+    find_header_row,
+    headers_seen,
+    lookup_for,
+    no_header_error,
+)
+from loopdocs.read.table import CellValue, IndexTable, ReadNotice
+
+ZIP_MAGIC = b"PK\x03\x04"
+OLE_MAGIC = bytes.fromhex("D0CF11E0A1B11AE1")
+"""An OLE compound file: a password-protected (encrypted) .xlsx, or a legacy .xls."""
+
+NO_CACHED_VALUE = (
+    "formula cell has no cached value, read as blank (open and save the workbook in a "
+    "spreadsheet program to compute it)"
+)
+
+
+def cell_value(value: Any) -> CellValue:
+    """A calamine cell as loopdocs keeps it.
+
+    Text stripped (blank -> None), whole-number floats -> int, dates and times -> ISO 8601
+    text, booleans kept.
+
+    >>> cell_value("  TIC-3105  "), cell_value(""), cell_value(3105.0), cell_value(11.68)
+    ('TIC-3105', None, 3105, 11.68)
+    >>> cell_value(dt.datetime(2025, 3, 4, 9, 30)), cell_value(dt.date(2025, 3, 4)), cell_value(True)
+    ('2025-03-04T09:30:00', '2025-03-04', True)
+    """
+    kind = type(value)
+    if kind is str:
+        return value.strip() or None
+    if kind is float:
+        return int(value) if value.is_integer() else value
+    if kind is int or kind is bool or value is None:
+        return value
+    if isinstance(value, dt.datetime):
+        return _to_second(value).isoformat()
+    if isinstance(value, dt.time):
+        return _to_second(dt.datetime.combine(dt.date(2000, 1, 1), value)).time().isoformat()
+    if isinstance(value, dt.date):
+        return value.isoformat()
+    if isinstance(value, dt.timedelta):
+        return str(value)
+    return str(value).strip() or None
+
+
+def _to_second(value: dt.datetime) -> dt.datetime:
+    """Nearest whole second (spreadsheet times are day fractions and rarely land exactly)."""
+    return (value + dt.timedelta(microseconds=500_000)).replace(microsecond=0)
+
+
+def check_workbook_file(path: Path) -> None:
+    """One-line InputError for a file that cannot be a readable workbook (by its first bytes)."""
+    try:
+        with path.open("rb") as handle:
+            head = handle.read(8)
+    except OSError as exc:
+        raise InputError(f"{path}: cannot open ({exc.strerror or exc})") from None
+    if not head:
+        raise InputError(f"{path}: the file is empty")
+    if head == OLE_MAGIC:
+        raise InputError(
+            f"{path}: the workbook is password-protected (encrypted) or a legacy .xls file; "
+            "save it unprotected as .xlsx"
+        )
+    if head[:4] != ZIP_MAGIC:
+        raise InputError(f"{path}: not an .xlsx workbook (not a zip archive); save it as .xlsx or .csv")
+
+
+def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None) -> IndexTable:
+    """The index in sheet ``sheet`` (default: the first sheet with a Tag header)."""
+    from python_calamine import CalamineError, CalamineWorkbook, SheetTypeEnum, ZipError
+
+    lookup = lookup_for(column_map)
+    check_workbook_file(path)
+    try:
+        with CalamineWorkbook.from_path(str(path)) as book:
+            names = list(book.sheet_names)
+            if sheet is not None:
+                if sheet not in names:
+                    listed = ", ".join(repr(n) for n in names)
+                    raise InputError(f"{path}: no sheet named {sheet!r}; the sheets are {listed}")
+                candidates = [sheet]
+            else:
+                kinds = {m.name: m.typ for m in book.sheets_metadata}
+                candidates = [n for n in names if kinds.get(n, SheetTypeEnum.WorkSheet) == SheetTypeEnum.WorkSheet]
+            seen: list[tuple[str, str]] = []
+            for name in candidates:
+                calamine_sheet = book.get_sheet_by_name(name)
+                top = calamine_sheet.to_python(skip_empty_area=False, nrows=HEADER_SEARCH_ROWS)
+                header_index = find_header_row(top, lookup)
+                if header_index is None:
+                    seen.append((name, headers_seen(top)))
+                    continue
+                grid = calamine_sheet.to_python(skip_empty_area=False)
+                fill_merged(grid, calamine_sheet.merged_cell_ranges or (), header_index)
+                break
+            else:
+                raise no_header_error(path, seen)
+    except InputError:
+        raise
+    except ZipError as exc:
+        raise InputError(
+            f"{path}: the workbook is damaged or incomplete ({_one_line(exc)}); copy it again or re-save it"
+        ) from None
+    except CalamineError as exc:
+        raise InputError(f"{path}: cannot read the workbook ({type(exc).__name__}: {_one_line(exc)})") from None
+    except (OSError, ValueError, RuntimeError) as exc:
+        raise InputError(f"{path}: cannot read the workbook ({_one_line(exc)})") from None
+
+    table = build_table(path, name, grid, header_index, lookup, cell_value)
+    letters = set(table.columns.values()) | set(table.extra_columns.values())
+    table.notices.extend(
+        notice for notice in formula_notices(path, name) if notice.location.row > table.header_row and notice.location.column in letters
+    )
+    return table
+
+
+def fill_merged(grid: list[list[Any]], ranges: Any, header_index: int) -> None:
+    """Repeat each merged range's top-left value down the range's rows (data rows only).
+
+    ``ranges`` are calamine's 0-based ``((row, col), (row, col))`` corners. Columns to the
+    right of the top-left inside a range stay blank: a merge across columns widens one
+    cell, it does not give the neighbouring columns a value.
+
+    >>> grid = [["Tag", "Loop"], ["TT-1", "T-1"], ["TIC-1", ""], ["TV-1", ""]]
+    >>> fill_merged(grid, [((1, 1), (3, 1))], 0); [row[1] for row in grid]
+    ['Loop', 'T-1', 'T-1', 'T-1']
+    """
+    for (row0, col0), (row1, _col1) in ranges:
+        if row0 <= header_index or row0 >= len(grid):
+            continue
+        value = grid[row0][col0] if col0 < len(grid[row0]) else ""
+        for row in range(row0 + 1, min(row1, len(grid) - 1) + 1):
+            cells = grid[row]
+            if col0 < len(cells):
+                cells[col0] = value
+
+
+def _one_line(exc: BaseException) -> str:
+    return " ".join(str(exc).split()) or type(exc).__name__
+
+
+# -- cells calamine reads as blank: formulas with no cached value, spreadsheet errors -----
+
+_CELL_REF = re.compile(rb"""\br\s*=\s*["']([A-Z]{1,3})([0-9]+)["']""")
+_STR_TYPE = re.compile(rb"""\bt\s*=\s*["']str["']""")
+_ROOT_PREFIX = re.compile(rb"<(\w+:)?worksheet\b")
+
+
+def formula_notices(path: Path, sheet: str) -> list[ReadNotice]:
+    """Notices for formula cells with no cached value and for error cells of ``sheet``.
+
+    Scans the sheet XML with byte searches (no XML parse); returns [] when the sheet has
+    neither, or when its part cannot be found (calamine has read it already).
+    """
+    try:
+        with zipfile.ZipFile(path) as archive:
+            part = _sheet_part(archive, sheet)
+            if part is None:
+                return []
+            data = archive.read(part)
+    except (OSError, KeyError, zipfile.BadZipFile, ValueError):
+        return []
+    root = _ROOT_PREFIX.search(data, 0, 4096)
+    prefix = (root.group(1) or b"") if root else b""
+    notices: list[ReadNotice] = []
+    for ref, message in (*_formulas_without_value(data, prefix), *_error_cells(data, prefix)):
+        notices.append(ReadNotice(Location(sheet, int(ref[1]), ref[0].decode()), message))
+    notices.sort(key=lambda n: (n.location.row, len(n.location.column), n.location.column))
+    return notices
+
+
+def _cell_bounds(data: bytes, inside: int, prefix: bytes) -> tuple[int, int, int] | None:
+    """(start of ``<c``, end of its start tag, end of the cell) around position ``inside``."""
+    start = data.rfind(b"<" + prefix + b"c ", 0, inside)
+    if start < 0:
+        return None
+    tag_end = data.find(b">", start)
+    if tag_end < 0:
+        return None
+    if data[tag_end - 1 : tag_end] == b"/":
+        return start, tag_end, tag_end + 1
+    end = data.find(b"</" + prefix + b"c>", tag_end)
+    return (start, tag_end, end) if end >= 0 else None
+
+
+def _formulas_without_value(data: bytes, prefix: bytes):
+    opener = b"<" + prefix + b"f"
+    if data.find(opener) < 0:  # one byte search: most index sheets hold no formulas
+        return
+    value_tag = re.compile(rb"<" + re.escape(prefix) + rb"v>([^<]*)<")
+    for match in re.finditer(re.escape(opener) + rb"[\s>/]", data):
+        bounds = _cell_bounds(data, match.start(), prefix)
+        if bounds is None:
+            continue
+        start, tag_end, end = bounds
+        if match.start() < tag_end or match.start() > end:
+            continue
+        attrs = data[start:tag_end]
+        ref = _CELL_REF.search(attrs)
+        if ref is None:
+            continue
+        cached = value_tag.search(data, tag_end, end + 1)
+        if cached is not None and (cached.group(1) or _STR_TYPE.search(attrs)):
+            continue
+        yield ref.groups(), NO_CACHED_VALUE
+
+
+def _error_cells(data: bytes, prefix: bytes):
+    value_tag = re.compile(rb"<" + re.escape(prefix) + rb"v>([^<]*)<")
+    for needle in (b't="e"',):  # spreadsheet programs quote attributes with "
+        position = data.find(needle)
+        while position >= 0:
+            bounds = _cell_bounds(data, position, prefix)
+            if bounds is not None and bounds[0] < position < bounds[1]:
+                start, tag_end, end = bounds
+                ref = _CELL_REF.search(data, start, tag_end)
+                if ref is not None:
+                    value = value_tag.search(data, tag_end, end + 1)
+                    error = value.group(1).decode("utf-8", "replace") if value else "error"
+                    yield ref.groups(), f"cell holds the spreadsheet error {error}, read as blank"
+            position = data.find(needle, position + 1)
+
+
+def _sheet_part(archive: zipfile.ZipFile, sheet: str) -> str | None:
+    """Path inside the zip of the worksheet named ``sheet`` (via the package relationships)."""
+    from defusedxml import ElementTree
+
+    def rels_of(part: str) -> dict[str, str]:
+        folder, name = posixpath.split(part)
+        rels_path = posixpath.join(folder, "_rels", name + ".rels")
+        targets = {}
+        for rel in ElementTree.fromstring(archive.read(rels_path)):
+            target = rel.get("Target", "")
+            if rel.get("TargetMode") == "External":
+                continue
+            resolved = target.lstrip("/") if target.startswith("/") else posixpath.normpath(posixpath.join(folder, target))
+            targets[rel.get("Id", "")] = resolved
+            targets["type:" + rel.get("Type", "").rsplit("/", 1)[-1]] = resolved
+        return targets
+
+    workbook_part = rels_of("").get("type:officeDocument", "xl/workbook.xml")
+    workbook_rels = rels_of(workbook_part)
+    for element in ElementTree.fromstring(archive.read(workbook_part)).iter():
+        if element.tag.rsplit("}", 1)[-1] == "sheet" and element.get("name") == sheet:
+            for attribute, value in element.attrib.items():
+                if attribute.endswith("}id"):
+                    return workbook_rels.get(value)
+    return None
