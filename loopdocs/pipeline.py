@@ -34,8 +34,6 @@ def load_project(path: Path) -> tuple[Project, list[Finding]]:
         table = read_index(paths.index, sheet=config.index.sheet, column_map=config.columns)
     except InputError:
         raise
-    except ValueError as exc:  # a bad column map entry
-        raise InputError(f"{paths.config_file}: {exc}") from None
     except Exception as exc:  # last line of defence: one line, never a traceback
         raise InputError(f"{paths.index}: could not be read ({type(exc).__name__}: {exc})") from None
     try:

@@ -223,3 +223,18 @@ def test_index_format_doc_is_current():
     finally:
         sys.path.pop(0)
     assert (REPO / "docs" / "index-format.md").read_text(encoding="utf-8") == make_index_format.render()
+
+
+def test_formula_without_cached_value_is_reported_once_per_column(tmp_path):
+    # openpyxl writes formulas without a cached value (ECMA-376 Part 1, 18.3.1.40: <f> without <v>)
+    path = write(tmp_path, BASE_ROWS)
+    workbook = openpyxl.load_workbook(path)
+    sheet = workbook["Index"]
+    for row in range(4, 10):
+        sheet[f"{LETTER['tag']}{row}"] = f"TT-{row}"
+        sheet[f"{LETTER['service']}{row}"] = "=\"Tank \"&ROW()"
+    workbook.save(path)
+    found = findings_of(path, "index.read")
+    assert len(found) == 1
+    assert "6 cells in column " + LETTER["service"] in found[0].message
+    assert (found[0].location.row, found[0].location.column) == (4, LETTER["service"])

@@ -82,14 +82,35 @@ def loop_id_for(given: str | None, parts: TagParts) -> tuple[str, bool]:
     return given.strip(), False
 
 
+READ_NOTICES_SHOWN_PER_COLUMN = 3
+
+
+def read_findings(table: IndexTable) -> list[Finding]:
+    """One ``index.read`` warning per reader notice; a column with many notices of the
+    same kind (a whole formula column without cached values) gives one finding that
+    counts them, located at the first cell."""
+    by_column: dict[tuple[str, str], list] = defaultdict(list)
+    for notice in table.notices:
+        by_column[(notice.location.column, notice.message)].append(notice)
+    findings: list[Finding] = []
+    for (column, message), notices in by_column.items():
+        if len(notices) <= READ_NOTICES_SHOWN_PER_COLUMN:
+            findings += [Finding("index.read", Severity.WARNING, n.message, location=n.location) for n in notices]
+        else:
+            rows = sorted(n.location.row for n in notices)
+            findings.append(Finding(
+                "index.read", Severity.WARNING,
+                f"{len(notices)} cells in column {column} (rows {rows[0]} to {rows[-1]}): {message}",
+                location=notices[0].location,
+            ))
+    return findings
+
+
 def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tuple[Project, list[Finding]]:
     """Convert the rows of an index into a ``Project`` and the findings met on the way."""
     config = config or ProjectConfig()
     pattern = compile_tag_pattern(config.index.tag_pattern)
-    findings: list[Finding] = [
-        Finding("index.read", Severity.WARNING, notice.message, location=notice.location)
-        for notice in table.notices
-    ]
+    findings = read_findings(table)
     tags: dict[str, Tag] = {}
     first_row: dict[str, int] = {}
 
