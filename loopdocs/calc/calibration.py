@@ -210,6 +210,36 @@ class CalibrationTable:
 # --------------------------------------------------------------------------- helpers
 
 
+#: Decimals shown for signal and sensor units (calibrator resolution, common practice).
+_UNIT_DECIMALS = {"mA": 3, "mV": 3, "ohm": 3, "psig": 3, "kPa": 2, TRAVEL_UNIT: 1, CO_UNIT: 0}
+
+
+def display_decimals(span: float, unit: str) -> int:
+    """Decimals to show a value: fixed for signal and sensor units, else enough to
+    resolve 1/10 000 of the span (0 to 5).
+
+    >>> display_decimals(16.0, "mA"), display_decimals(45.0, "degC"), display_decimals(3200.0, "mm")
+    (3, 2, 0)
+    """
+    if unit in _UNIT_DECIMALS:
+        return _UNIT_DECIMALS[unit]
+    if not span or not math.isfinite(span):
+        return 3
+    return max(0, min(5, 3 - math.floor(math.log10(abs(span)))))
+
+
+def ne43_note(levels: NE43Levels) -> str:
+    """The NAMUR NE 43 levels in one line.
+
+    >>> ne43_note(ne43_levels())
+    'NAMUR NE 43: measuring 3.8 to 20.5 mA; failure at or below 3.6 mA or at or above 21 mA'
+    """
+    return (
+        f"NAMUR NE 43: measuring {levels.measuring_low_ma:g} to {levels.measuring_high_ma:g} mA; failure at or "
+        f"below {levels.failure_at_or_below_ma:g} mA or at or above {levels.failure_at_or_above_ma:g} mA"
+    )
+
+
 def rising_falling(percents: Sequence[float] = FIVE_POINTS_PCT) -> list[tuple[float, str]]:
     """The points rising, then the same points falling: ``[(0, 'up'), ..., (0, 'down')]``.
 
@@ -229,7 +259,7 @@ def tolerance_of(
     input_unit: str,
     output_span: float,
     output_unit: str,
-    basis: str = "Accuracy % of span (index)",
+    basis: str = "Accuracy % in the index",
 ) -> Tolerance | None:
     """Accuracy % of span as +/- input and +/- output units; ``None`` when no accuracy is given.
 
@@ -386,7 +416,6 @@ def transmitter_table(
             f"thermocouple EMF given with the reference junction at 0 degC and at {reference_junction_c:g} degC "
             "(transmitter terminals); a calibrator with its own reference-junction compensation sources degC directly"
         )
-    notes.append("approach each falling point from above (go slightly past 100 % first)")
     return CalibrationTable(
         tag=tag,
         kind=kind,
@@ -493,7 +522,7 @@ def _travel_tolerance(accuracy_pct: float | None, input_width: float | None, inp
         return tolerance_of(accuracy_pct, input_width, input_unit, 100.0, TRAVEL_UNIT)  # type: ignore[return-value]
     return tolerance_of(
         TRAVEL_TOLERANCE_PCT, input_width, input_unit, 100.0, TRAVEL_UNIT,
-        basis=f"{TRAVEL_TOLERANCE_PCT:g} % of travel (DESIGN §3.2; Accuracy % blank in the index)",
+        basis=f"Accuracy % blank: {TRAVEL_TOLERANCE_PCT:g} % of travel taken (DESIGN §3.2)",
     )  # type: ignore[return-value]
 
 
