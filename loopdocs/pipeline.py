@@ -3,8 +3,9 @@ read -> model -> checks (DESIGN §7)."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from loopdocs.config import load_config, locate
 from loopdocs.errors import InputError
@@ -12,11 +13,17 @@ from loopdocs.findings import Acceptance, Finding, Severity, sorted_findings
 from loopdocs.model.records import Project, ProjectConfig
 from loopdocs.model.tagname import TagPatternError
 
+if TYPE_CHECKING:
+    from loopdocs.model.groups import SplitGroup
+
 
 @dataclass(frozen=True)
 class Checked:
     project: Project
     findings: list[Finding]
+    splits: list["SplitGroup"] = field(default_factory=list)
+    """Every split group (single valves included; ``SplitGroup.is_split`` tells a split),
+    built once and shared with the checks (``loopdocs.model.groups``)."""
 
 
 def load_project(path: Path) -> tuple[Project, list[Finding]]:
@@ -67,7 +74,9 @@ def apply_acceptances(findings: list[Finding], config: ProjectConfig) -> list[Fi
 def check_project(path: Path) -> Checked:
     """Read, convert and check: every finding, sorted by loop and severity."""
     from loopdocs.checks import run_checks
+    from loopdocs.model.groups import groups_for
 
     project, findings = load_project(path)
+    splits = groups_for(project)
     findings = findings + run_checks(project)
-    return Checked(project, sorted_findings(apply_acceptances(findings, project.config)))
+    return Checked(project, sorted_findings(apply_acceptances(findings, project.config)), splits)

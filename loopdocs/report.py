@@ -19,7 +19,7 @@ def check_json(checked: Checked) -> dict[str, Any]:
     counts = FindingCounts.of(checked.findings)
     return {
         "findings": [f.as_json() for f in checked.findings],
-        "splits": [group.as_json() for group in getattr(checked, "splits", [])],
+        "splits": [group.as_json() for group in checked.splits if group.is_split],
         "summary": {
             **counts.as_json(),
             "tags": len(checked.project.tags),
@@ -52,8 +52,87 @@ def print_check(checked: Checked) -> None:
             message = f.message + (f"\naccepted by {f.accepted.by}: {f.accepted.reason}" if f.accepted else "")
             table.add_row(severity, f.rule, str(f.location) if f.location else "", message)
         console.print(table)
+    print_splits(console, checked)
     counts = FindingCounts.of(checked.findings)
     console.print(
         f"[bold]{counts.error} error(s), {counts.warning} warning(s), {counts.info} info, "
         f"{counts.accepted} accepted[/]"
     )
+
+
+def _method_text(group: Any) -> str:
+    from loopdocs.model.groups import fmt_range
+
+    spans = {e.span for e in group.elements}
+    span = next(iter(spans)) if len(spans) == 1 else None
+    on = f" {fmt_range(span.low, span.high, span.unit)}" if span else ""
+    if group.method == "positioner":
+        return f"split in the positioners (one shared{on} output)"
+    if group.method == "pneumatic":
+        via = ", ".join(c.tag for c in group.converters)
+        return f"pneumatic split on{on}" + (f" via {via}" if via else "")
+    if group.method == "dcs":
+        return "split in the control system (one output per element)"
+    return "split in more than one place"
+
+
+def _settings_cells(e: Any) -> tuple[str, str]:
+    """(as set, what loopdocs recommends) for one element of a split."""
+    from loopdocs.model.groups import fmt_pct, fmt_range
+
+    now = fmt_range(*e.input_range, e.input_units) if e.input_range else "not given"
+    if e.required_input_range is None:
+        needed = "-"
+    else:
+        needed = fmt_range(*e.required_input_range, e.input_units)
+    if e.method == "dcs":
+        now = f"positioner {now}"
+        needed = f"positioner {needed}"
+        scaling = e.required_dcs_scaling
+        if scaling is not None:
+            needed += (f"; output 0 % at CO {fmt_pct(scaling.co_at_0_pct)} %, 100 % at CO "
+                       f"{fmt_pct(scaling.co_at_100_pct)} %" + (" (reversed)" if scaling.reversed else ""))
+    return now, needed
+
+
+def print_splits(console: Any, checked: Checked) -> None:
+    """A summary per split group: arrangement, segments, gaps and overlaps, settings."""
+    from rich.table import Table
+
+    from loopdocs.model.groups import fmt_pct
+
+    splits = [group for group in checked.splits if group.is_split]
+    if not splits:
+        return
+    console.print(f"[bold]Split ranges[/] ({len(splits)})")
+    for group in splits:
+        table = Table(
+            title=f"{group.controller} (loop {group.loop}): {group.mode}, {_method_text(group)}",
+            title_justify="left", expand=False,
+        )
+        for column in ("element", "CO %", "travel %", "set", "recommended"):
+            table.add_column(column, overflow="fold")
+        for e in group.elements:
+            now, needed = _settings_cells(e)
+            travel = f"{fmt_pct(e.travel_start_pct)} -> {fmt_pct(e.travel_end_pct)}"
+            if e.intent_source != "stated":
+                travel += f" ({'from settings' if e.intent_source == 'settings' else 'default'})"
+            table.add_row(e.tag, f"{fmt_pct(e.co_start_pct)} to {fmt_pct(e.co_end_pct)}", travel, now, needed)
+        notes = []
+        for low, high in group.uncovered_co:
+            if high - low > 0.01:
+                notes.append(f"nothing moves over CO {fmt_pct(low)} to {fmt_pct(high)} % ({fmt_pct(high - low)} %)")
+        for first, second, relation in group.pairs:
+            if relation.overlap_pct > 0.01 and relation.ranges != "shared":
+                notes.append(f"{first.tag} and {second.tag} overlap by {fmt_pct(relation.overlap_pct)} % CO")
+        if group.recommended_boundaries_pct is not None:
+            ratios = ", ".join(f"{r:.2f}" for r in group.gain_ratios or ())
+            notes.append(
+                "boundaries in proportion to Cv: "
+                + ", ".join(f"{fmt_pct(b)} %" for b in group.recommended_boundaries_pct)
+                + (f"; gain ratio across each boundary now: {ratios}" if ratios else "")
+            )
+        if notes:
+            table.caption = "; ".join(notes)
+            table.caption_justify = "left"
+        console.print(table)
