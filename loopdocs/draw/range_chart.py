@@ -1,0 +1,537 @@
+"""Range chart of a split group: travel against controller output, as drawing data.
+
+One chart per split group (``loopdocs.model.groups``), drawn to be read at its natural
+size, ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM`` (about the space an A3 loop sheet gives it):
+
+- travel %, 0 to 100, against CO %, 0 to 100, one line per element, labelled with its
+  tag. The line is the travel the element's *settings* give (DESIGN §3.2,
+  ``loopdocs.calc.split.realised_travel_pct``); where that differs from the intent by
+  more than the 1 % tolerance the intent is drawn too, thin and dashed. Without usable
+  settings the intent is drawn and the label says so;
+- a second x-axis in the shared signal's units (mA, psig, kPa) for ``positioner`` and
+  ``pneumatic`` splits, where every element sees the same signal;
+- the CO boundaries of the elements, labelled with their values; gaps (CO where nothing
+  moves) and overlaps between staged neighbours shaded and labelled with their width;
+- the capacity-proportional boundaries of a ``staged`` group when every Cv is known;
+- the combined capacity (total Cv against CO, right axis) when every Cv is known;
+- a warning marker with the rule name for each error or warning finding on the group,
+  next to the element it names (or in a line under the chart when there is no room).
+
+Curves are piecewise linear, so each is drawn through its exact breakpoints (segment
+ends, clamp points of the input range and of the control-system scaling). The chart data
+(``RangeChart.curves``, in CO %/travel %) is kept beside the drawing for tests.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+from loopdocs.draw.geometry import (
+    MEDIUM_MM,
+    THIN_MM,
+    WIDE_MM,
+    Drawing,
+    Path,
+    PlacedText,
+    Point,
+    Rect,
+)
+from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm
+from loopdocs.findings import Finding, Severity
+from loopdocs.model.groups import SplitElement, SplitGroup, fmt_pct, fmt_signal
+
+CHART_WIDTH_MM = 180.0
+CHART_HEIGHT_MM = 110.0
+TEXT_MM = 2.5
+TITLE_MM = 3.5
+
+PLOT_LEFT_MM = 20.0
+PLOT_RIGHT_MM = 160.0
+PLOT_TOP_MM = 16.0
+PLOT_BOTTOM_MM = 78.0
+
+GRID_GREY = "#b3b3b3"
+GAP_FILL = "#d9d9d9"
+OVERLAP_FILL = "#8c8c8c"
+#: Dash patterns, mm, telling elements apart in black and white: solid, long dash, dash-dot, short dash.
+ELEMENT_DASHES: tuple[tuple[float, ...] | None, ...] = (None, (4.0, 1.5), (5.0, 1.2, 1.0, 1.2), (1.6, 1.2))
+#: Travel error above which the intent is drawn beside the settings, % travel (DESIGN §3.2).
+TOLERANCE_PCT = 1.0
+
+
+@dataclass
+class RangeChart(Drawing):
+    """The placed chart (a :class:`Drawing`) and the data it shows."""
+
+    controller: str = ""
+    loop_id: str = ""
+    curves: dict[str, list[tuple[float, float]]] = field(default_factory=dict)
+    """Element tag -> the drawn (CO %, travel %) points, in CO order."""
+    curve_source: dict[str, str] = field(default_factory=dict)
+    """Element tag -> ``settings`` (realised travel) or ``intent``."""
+    signal_axis: tuple[str, float, float] | None = None
+    """(unit, signal at CO 0 %, signal at CO 100 %) of the second x-axis, or None."""
+    capacity: list[tuple[float, float]] | None = None
+    markers: list[tuple[str, tuple[str, ...]]] = field(default_factory=list)
+    """(rule, tags) of each finding marked."""
+    plot: Rect = field(default_factory=lambda: Rect(PLOT_LEFT_MM, PLOT_TOP_MM, PLOT_RIGHT_MM - PLOT_LEFT_MM,
+                                                    PLOT_BOTTOM_MM - PLOT_TOP_MM))
+
+    def x_of(self, co_pct: float) -> float:
+        return self.plot.x + self.plot.width * co_pct / 100.0
+
+    def y_of(self, travel_pct: float) -> float:
+        return self.plot.bottom - self.plot.height * travel_pct / 100.0
+
+
+# --------------------------------------------------------------------------- curves
+
+
+def _breakpoints_co(element: SplitElement) -> list[float]:
+    """Every CO, %, in 0..100 where the element's travel can change slope."""
+    points = [0.0, 100.0, element.co_start_pct, element.co_end_pct]
+    settings = element.settings
+    if settings is not None:
+        span = settings.span
+        fractions = [(v - span.low) / span.width for v in (settings.input_low, settings.input_high)]
+        if element.method == "dcs":
+            scaling = element.required_dcs_scaling
+            c0, c100 = (scaling.co_at_0_pct, scaling.co_at_100_pct) if scaling else (0.0, 100.0)
+            points += [c0, c100] + [c0 + f * (c100 - c0) for f in fractions if 0.0 <= f <= 1.0]
+        else:
+            points += [100.0 * f for f in fractions]
+    return sorted({round(p, 9) for p in points if 0.0 <= p <= 100.0})
+
+
+def travel_curve(element: SplitElement) -> tuple[list[tuple[float, float]], str] | None:
+    """(CO %, travel %) points of the line drawn for ``element`` and its source:
+    ``settings`` (realised travel, DESIGN §3.2) or ``intent`` when it has no usable
+    settings; None when it has neither. Collinear points are dropped."""
+    if element.settings is not None:
+        travel, source = element.realised_travel_pct, "settings"
+    elif element.intent is not None:
+        travel, source = element.intended_travel_pct, "intent"
+    else:
+        return None
+    points = [(co, travel(co)) for co in _breakpoints_co(element)]
+    return _simplify(points), source
+
+
+def intent_curve(element: SplitElement) -> list[tuple[float, float]] | None:
+    if element.intent is None:
+        return None
+    cos = sorted({0.0, 100.0, element.co_start_pct, element.co_end_pct})
+    return _simplify([(co, element.intended_travel_pct(co)) for co in cos if 0.0 <= co <= 100.0])
+
+
+def _simplify(points: list[tuple[float, float]]) -> list[tuple[float, float]]:
+    out: list[tuple[float, float]] = []
+    for p in points:
+        if len(out) >= 2:
+            (x0, y0), (x1, y1) = out[-2], out[-1]
+            if abs((x1 - x0) * (p[1] - y0) - (p[0] - x0) * (y1 - y0)) < 1e-9:
+                out[-1] = p
+                continue
+        out.append(p)
+    return out
+
+
+# --------------------------------------------------------------------------- ticks
+
+
+def nice_step(span: float, target_ticks: int = 5) -> float:
+    """A 1-2-2.5-5 x 10^n step giving about ``target_ticks`` intervals over ``span``.
+
+    >>> nice_step(40), nice_step(16), nice_step(7.3)
+    (10.0, 4.0, 2.0)
+    """
+    if not (span > 0 and math.isfinite(span)):
+        return 1.0
+    raw = span / target_ticks
+    base = 10 ** math.floor(math.log10(raw))
+    for m in (1.0, 2.0, 2.5, 4.0, 5.0, 10.0):
+        if m * base >= raw - 1e-12:
+            return m * base
+    return 10.0 * base
+
+
+def _signal_ticks(low: float, high: float) -> list[float]:
+    """Tick values for a signal axis from ``low`` to ``high`` (both included)."""
+    span = high - low
+    if span <= 0:
+        return [low]
+    # the classic quarter points of a signal span (4, 8, 12, 16, 20 mA; 3, 6, 9, 12, 15 psig)
+    return [low + span * k / 4 for k in range(5)]
+
+
+# --------------------------------------------------------------------------- placement
+
+
+class _Placer:
+    """Keeps the boxes already taken and finds the first free candidate for a text."""
+
+    def __init__(self, bounds: Rect) -> None:
+        self.bounds = bounds
+        self.taken: list[Rect] = []
+
+    def free(self, box: Rect, within: Rect | None = None) -> bool:
+        area = within or self.bounds
+        if not area.contains(box):
+            return False
+        return not any(box.overlaps(t, 0.3) for t in self.taken)
+
+    def take(self, box: Rect) -> None:
+        self.taken.append(box)
+
+    def place(self, chart: Drawing, candidates: Sequence[PlacedText], within: Rect | None = None) -> PlacedText | None:
+        for text in candidates:
+            if self.free(text.box, within):
+                chart.texts.append(text)
+                self.take(text.box)
+                return text
+        return None
+
+
+def _txt(text: str, x: float, y: float, anchor: str = "start", role: str = "label", size: float = TEXT_MM,
+         bold: bool = False, rotate: float = 0.0, owner: str = "") -> PlacedText:
+    return PlacedText(text, x, y, size, anchor, bold, role, owner, None, rotate)
+
+
+def _curve_boxes(points_mm: Sequence[Point], step_mm: float = 0.8, half_mm: float = 0.45) -> list[Rect]:
+    """Small boxes along a polyline, so texts keep off sloping lines too."""
+    boxes = []
+    for (x0, y0), (x1, y1) in zip(points_mm, points_mm[1:]):
+        n = max(1, int(math.hypot(x1 - x0, y1 - y0) / step_mm))
+        for i in range(n + 1):
+            f = i / n
+            boxes.append(Rect(x0 + f * (x1 - x0) - half_mm, y0 + f * (y1 - y0) - half_mm, 2 * half_mm, 2 * half_mm))
+    return boxes
+
+
+# --------------------------------------------------------------------------- chart
+
+
+def _group_findings(group: SplitGroup, findings: Sequence[Finding]) -> list[Finding]:
+    names = set(group.tags) | {group.controller}
+    out = []
+    for f in findings:
+        if f.severity is Severity.INFO:
+            continue
+        if f.loop not in (None, group.loop) and not names.intersection(f.tags):
+            continue
+        if names.intersection(f.tags):
+            out.append(f)
+    return out
+
+
+def _title(group: SplitGroup) -> str:
+    method = {"dcs": "split in the control system", "positioner": "split in the positioners",
+              "pneumatic": "pneumatic split"}.get(group.method, f"{group.method} split")
+    return f"Split range {group.controller} (loop {group.loop}): {group.mode}, {method}"
+
+
+def _subtitle(group: SplitGroup) -> str | None:
+    """What the capacity split says, for a ``staged`` group with every Cv known."""
+    rec = group.recommended_boundaries_pct
+    if not rec:
+        return None
+    actual = sorted({round(e.co_end_pct, 6) for e in group.elements[:-1]})
+    match = len(actual) == len(rec) and all(abs(a - r) <= 0.5 for a, r in zip(actual, rec))
+    text = f"Cv-proportional {'boundary' if len(rec) == 1 else 'boundaries'} {', '.join(fmt_pct(r) for r in rec)} % CO"
+    text += " (as set)" if match else f" (set: {', '.join(fmt_pct(a) for a in actual)} %)"
+    if group.gain_ratios:
+        text += "; gain ratio across " + ("each boundary " if len(group.gain_ratios) > 1 else "the boundary ")
+        text += ", ".join(f"{r:.2f}" for r in group.gain_ratios)
+    return text
+
+
+def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeChart:
+    """Place the range chart of ``group``; ``findings`` of the project (those on the
+    group's tags, error or warning, are marked). Sizes in mm, natural size
+    ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM`` (taller only when findings need a list below)."""
+    shared = group.method in ("positioner", "pneumatic") and bool(group.elements)
+    bottom_space = 7.8 + (14.6 if shared else 0.0) + 2.5
+    subtitle = _subtitle(group)
+    plot_top = PLOT_TOP_MM + (0.0 if subtitle is None else 3.3)
+    plot_rect = Rect(PLOT_LEFT_MM, plot_top, PLOT_RIGHT_MM - PLOT_LEFT_MM, CHART_HEIGHT_MM - bottom_space - plot_top)
+    chart = RangeChart(controller=group.controller, loop_id=group.loop,
+                       width_mm=CHART_WIDTH_MM, height_mm=CHART_HEIGHT_MM, plot=plot_rect)
+    chart.title = f"Range chart {group.controller}"
+    chart.description = _title(group)
+    plot = chart.plot
+    placer = _Placer(Rect(0.0, 0.0, CHART_WIDTH_MM, CHART_HEIGHT_MM + 60.0))
+
+    def put(text: PlacedText) -> PlacedText:
+        chart.texts.append(text)
+        placer.take(text.box)
+        return text
+
+    put(_txt(_title(group), 0.5, 1.0 + ASCENT_EM * TITLE_MM, "start", "title", TITLE_MM, bold=True))
+    if subtitle:
+        put(_txt(subtitle, 0.5, 6.3 + ASCENT_EM * TEXT_MM, "start", "subtitle"))
+
+    # shading first (painted under everything): gaps, overlaps of staged neighbours
+    bands: list[tuple[float, float, str, str]] = []  # (co from, co to, kind, label)
+    between = set()
+    for first, second, rel in group.pairs:
+        if rel.gap_pct > 0.01:
+            word = "dead band" if rel.direction == "opposed" else "gap"
+            bands.append((first.co_end_pct, second.co_start_pct, "gap", f"{word} {fmt_pct(rel.gap_pct)} %"))
+            between.add((round(first.co_end_pct, 6), round(second.co_start_pct, 6)))
+        elif rel.overlap_pct > 0.01 and rel.ranges == "staged":
+            bands.append((second.co_start_pct, first.co_end_pct, "overlap", f"overlap {fmt_pct(rel.overlap_pct)} %"))
+    for a, b in group.uncovered_co:
+        if (round(a, 6), round(b, 6)) not in between and b - a > 0.01:
+            bands.append((a, b, "gap", f"nothing moves {fmt_pct(b - a)} %"))
+    for a, b, kind, _label in bands:
+        x0, x1 = chart.x_of(a), chart.x_of(b)
+        fill, opacity = (GAP_FILL, 1.0) if kind == "gap" else (OVERLAP_FILL, 0.45)
+        chart.paths.append(Path(((x0, plot.y), (x1, plot.y), (x1, plot.bottom), (x0, plot.bottom)),
+                                stroke_mm=None, closed=True, fill=fill, fill_opacity=opacity, role=f"shade-{kind}"))
+
+    # grid, frame, travel axis
+    for co in range(10, 100, 10):
+        chart.paths.append(Path(((chart.x_of(co), plot.y), (chart.x_of(co), plot.bottom)), THIN_MM,
+                                stroke=GRID_GREY, role="grid"))
+    for t in (25, 50, 75):
+        chart.paths.append(Path(((plot.x, chart.y_of(t)), (plot.right, chart.y_of(t))), THIN_MM,
+                                stroke=GRID_GREY, role="grid"))
+    chart.paths.append(Path(((plot.x, plot.y), (plot.right, plot.y), (plot.right, plot.bottom), (plot.x, plot.bottom)),
+                            MEDIUM_MM, closed=True, role="plot-frame"))
+    for t in (0, 25, 50, 75, 100):
+        y = chart.y_of(t)
+        chart.paths.append(Path(((plot.x - 1.2, y), (plot.x, y)), THIN_MM, role="tick"))
+        put(_txt(str(t), plot.x - 1.8, y + 0.9, "end", "tick-travel"))
+    put(_txt("Travel, %", 4.5, plot.y + plot.height / 2, "middle", "axis-title", rotate=-90.0))
+
+    # CO axis
+    for co in range(0, 101, 10):
+        x = chart.x_of(co)
+        chart.paths.append(Path(((x, plot.bottom), (x, plot.bottom + (1.5 if co % 20 == 0 else 0.9))), THIN_MM,
+                                role="tick"))
+        if co % 20 == 0:
+            put(_txt(str(co), x, plot.bottom + 2.0 + ASCENT_EM * TEXT_MM, "middle", "tick-co"))
+    put(_txt("Controller output (CO), %", plot.x + plot.width / 2, plot.bottom + 5.3 + ASCENT_EM * TEXT_MM,
+             "middle", "axis-title"))
+
+    boundaries = sorted({round(v, 6) for e in group.elements for v in (e.co_start_pct, e.co_end_pct) if 0.0 < v < 100.0})
+
+    # second x-axis: the signal all elements share
+    if shared:
+        span = group.elements[0].span
+        chart.signal_axis = (span.unit, span.low, span.high)
+        axis_y = plot.bottom + 10.3
+        chart.paths.append(Path(((plot.x, axis_y), (plot.right, axis_y)), MEDIUM_MM, role="signal-axis"))
+        marks = [(co, True) for co in boundaries]
+        marks += [(100.0 * (v - span.low) / span.width, False) for v in _signal_ticks(span.low, span.high)]
+        for co, is_boundary in marks:
+            x = chart.x_of(co)
+            value = span.low + span.width * co / 100.0
+            for row in range(2 if is_boundary else 1):
+                label = _txt(fmt_signal(value, span.unit), x, axis_y + 2.0 + ASCENT_EM * TEXT_MM + row * LINE_MM,
+                             "middle", "tick-signal-boundary" if is_boundary else "tick-signal", bold=is_boundary)
+                if placer.free(label.box):
+                    chart.paths.append(Path(((x, axis_y), (x, axis_y + 1.5)), WIDE_MM if is_boundary else THIN_MM,
+                                            role="tick"))
+                    put(label)
+                    break
+        put(_txt(f"Shared output signal, {span.unit} (bold: at the boundaries)", plot.x + plot.width / 2,
+                 axis_y + 2.0 + 2 * LINE_MM + ASCENT_EM * TEXT_MM, "middle", "axis-title"))
+
+    # element boundaries: thin dashed verticals, CO values above the plot
+    for co in boundaries:
+        x = chart.x_of(co)
+        chart.paths.append(Path(((x, plot.y), (x, plot.bottom)), THIN_MM, dash_mm=(1.2, 0.8), role="boundary"))
+        cands = [_txt(f"{fmt_pct(co)} %", x, plot.y - 1.2 - row * LINE_MM - DESCENT_EM * TEXT_MM, "middle", "boundary")
+                 for row in range(2)]
+        cands += [_txt(f"{fmt_pct(co)} %", x + 1.0, plot.y + 1.0 + ASCENT_EM * TEXT_MM + row * LINE_MM, "start",
+                       "boundary") for row in range(6)]
+        placer.place(chart, cands)
+        placer.take(Rect(x - 0.4, plot.y, 0.8, plot.height))
+
+    # capacity-proportional boundaries that differ from the set ones
+    recommended = [r for r in (group.recommended_boundaries_pct or ()) if all(abs(r - b) > 0.5 for b in boundaries)]
+    for co in recommended:
+        x = chart.x_of(co)
+        chart.paths.append(Path(((x, plot.y), (x, plot.bottom)), MEDIUM_MM, dash_mm=(3.0, 1.0, 0.6, 1.0),
+                                role="recommended-boundary"))
+        placer.take(Rect(x - 0.4, plot.y, 0.8, plot.height))
+
+    # combined capacity, right axis
+    curve = group.capacity_curve(1.0)
+    cv_points_mm: list[Point] = []
+    if curve:
+        chart.capacity = [(co, cv) for co, cv in curve]
+        top_cv = max(cv for _, cv in curve)
+        step = nice_step(top_cv * 1.05, 4)
+        axis_max = step * math.ceil(top_cv * 1.05 / step - 1e-9) if top_cv > 0 else 1.0
+        k = 0
+        while k * step <= axis_max + 1e-9:
+            y = plot.bottom - plot.height * (k * step) / axis_max
+            chart.paths.append(Path(((plot.right, y), (plot.right + 1.2, y)), THIN_MM, role="tick"))
+            label = _txt(f"{k * step:g}", plot.right + 1.8, y + 0.9, "start", "tick-cv")
+            if placer.free(label.box):
+                put(label)
+            k += 1
+        put(_txt("Total Cv", CHART_WIDTH_MM - 3.0, plot.y + plot.height / 2, "middle", "axis-title", rotate=90.0))
+        cv_points_mm = _simplify([(chart.x_of(co), plot.bottom - plot.height * cv / axis_max) for co, cv in curve])
+        chart.paths.append(Path(tuple(cv_points_mm), MEDIUM_MM, dash_mm=(0.6, 0.9), role="capacity"))
+
+    # element lines
+    obstacles: list[Rect] = []
+    drawn: list[SplitElement] = []
+    for index, element in enumerate(group.elements):
+        result = travel_curve(element)
+        if result is None:
+            continue
+        points, source = result
+        chart.curves[element.tag] = points
+        chart.curve_source[element.tag] = source
+        mm = [(chart.x_of(co), chart.y_of(t)) for co, t in points]
+        chart.paths.append(Path(tuple(mm), WIDE_MM if source == "settings" else MEDIUM_MM,
+                                dash_mm=ELEMENT_DASHES[index % len(ELEMENT_DASHES)], role=f"curve:{element.tag}"))
+        obstacles += _curve_boxes(mm)
+        drawn.append(element)
+        error = element.travel_error[0] if element.travel_error else 0.0
+        if source == "settings" and error > TOLERANCE_PCT:
+            intent = intent_curve(element)
+            if intent:
+                imm = [(chart.x_of(co), chart.y_of(t)) for co, t in intent]
+                chart.paths.append(Path(tuple(imm), THIN_MM, dash_mm=(0.8, 0.8), role=f"intent:{element.tag}"))
+                obstacles += _curve_boxes(imm)
+    obstacles += _curve_boxes(cv_points_mm) if cv_points_mm else []
+    for box in obstacles:
+        placer.take(box)
+
+    inner = Rect(plot.x + 0.5, plot.y + 0.5, plot.width - 1.0, plot.height - 1.0)
+    # gap and overlap labels: upright text inside a wide band, turned text in a narrow one
+    for a, b, kind, label_text in bands:
+        xa, xb = chart.x_of(a), chart.x_of(b)
+        cx = (xa + xb) / 2
+        cands = []
+        if xb - xa >= text_width_mm(label_text, TEXT_MM) + 1.0:
+            cands += [_txt(label_text, cx, plot.y + plot.height * f, "middle", f"band-{kind}")
+                      for f in (0.5, 0.3, 0.7, 0.15, 0.85)]
+        if xb - xa >= TEXT_MM + 0.8:
+            cands += [_txt(label_text, cx + (ASCENT_EM - DESCENT_EM) * TEXT_MM / 2, plot.y + plot.height * f,
+                           "middle", f"band-{kind}", rotate=-90.0) for f in (0.5, 0.3, 0.7, 0.2, 0.8)]
+        cands += [_txt(label_text, cx + d, plot.y + 1.0 + ASCENT_EM * TEXT_MM + row * LINE_MM, anchor, f"band-{kind}")
+                  for row in range(8) for d, anchor in ((1.0, "start"), (-1.0, "end"))]
+        placer.place(chart, cands, inner)
+
+    for co in recommended:
+        x = chart.x_of(co)
+        text = f"Cv-proportional {fmt_pct(co)} %"
+        cands = [_txt(text, x + d, plot.y + 1.0 + ASCENT_EM * TEXT_MM + row * LINE_MM, anchor, "recommended")
+                 for row in range(12) for d, anchor in ((1.0, "start"), (-1.0, "end"))]
+        placer.place(chart, cands, inner)
+
+    # tag labels beside their lines, where the element moves
+    label_of: dict[str, PlacedText] = {}
+    for element in drawn:
+        text = element.tag if chart.curve_source[element.tag] == "settings" else f"{element.tag} (intent)"
+        placed = placer.place(chart, _label_candidates(text, element, chart), inner)
+        if placed is None:
+            placed = placer.place(chart, [_txt(text, x, y, "start", "curve-label") for x, y in _scan(inner)], inner)
+        if placed is not None:
+            label_of[element.tag] = placed
+    if cv_points_mm:
+        cands = []
+        for f in (0.85, 0.7, 0.55, 0.4, 0.25, 0.95, 0.1):
+            px, py = cv_points_mm[min(len(cv_points_mm) - 1, int(round(f * (len(cv_points_mm) - 1))))]
+            cands += [_txt("total Cv", px - 1.0, py - 1.5, "end", "capacity-label"),
+                      _txt("total Cv", px + 1.0, py + 1.5 + ASCENT_EM * TEXT_MM, "start", "capacity-label"),
+                      _txt("total Cv", px - 1.0, py + 1.5 + ASCENT_EM * TEXT_MM, "end", "capacity-label"),
+                      _txt("total Cv", px + 1.0, py - 1.5, "start", "capacity-label")]
+        placer.place(chart, cands, inner)
+
+    # findings: a marker with the rule name beside the tag it names, else listed below
+    notes: list[str] = []
+    for finding in _group_findings(group, findings):
+        chart.markers.append((finding.rule, finding.tags))
+        text = finding.rule + (" (accepted)" if finding.accepted else "")
+        anchor = next((label_of[t] for t in finding.tags if t in label_of), None)
+        placed = False
+        if anchor is not None:
+            box = anchor.box
+            spots = []
+            for dy in (0.0, LINE_MM, -LINE_MM, 2 * LINE_MM, -2 * LINE_MM, 3 * LINE_MM):
+                spots += [(box.right + 1.0, box.bottom + dy - DESCENT_EM * TEXT_MM),
+                          (box.x, box.bottom + dy + LINE_MM - DESCENT_EM * TEXT_MM)]
+            placed = any(_marker(chart, placer, x, base, text, inner) for x, base in spots)
+        if not placed:
+            notes.append(f"{text}: {', '.join(finding.tags)}")
+    y = CHART_HEIGHT_MM - 1.0
+    for note in notes:
+        _marker(chart, placer, plot.x, y + ASCENT_EM * TEXT_MM, note, None, force=True)
+        y += LINE_MM + 0.5
+    chart.height_mm = round(y + 1.5, 3) if notes else CHART_HEIGHT_MM
+    return chart
+
+
+LINE_MM = 3.3
+
+
+def _scan(area: Rect, step: float = 4.0):
+    """Candidate text positions over an area, top to bottom, left to right."""
+    y = area.y + ASCENT_EM * TEXT_MM + 0.5
+    while y < area.bottom:
+        x = area.x + 1.0
+        while x < area.right - 5.0:
+            yield (x, y)
+            x += step * 2
+        y += step
+
+
+def _label_candidates(text: str, element: SplitElement, chart: RangeChart) -> list[PlacedText]:
+    """Positions beside the moving part of the element's line, middle first."""
+    a, b = element.co_start_pct, element.co_end_pct
+    out = []
+    for f in (0.5, 0.35, 0.65, 0.2, 0.8, 0.1, 0.9):
+        co = a + f * (b - a)
+        try:
+            travel = element.realised_travel_pct(co) if element.settings is not None else element.intended_travel_pct(co)
+        except ValueError:
+            continue
+        x, y = chart.x_of(co), chart.y_of(travel)
+        out += [
+            _txt(text, x + 1.5, y - 1.5, "start", "curve-label"),
+            _txt(text, x - 1.5, y - 1.5, "end", "curve-label"),
+            _txt(text, x + 1.5, y + 1.5 + ASCENT_EM * TEXT_MM, "start", "curve-label"),
+            _txt(text, x - 1.5, y + 1.5 + ASCENT_EM * TEXT_MM, "end", "curve-label"),
+        ]
+    return out
+
+
+def _marker(chart: RangeChart, placer: _Placer, x: float, baseline: float, text: str,
+            within: Rect | None, force: bool = False) -> bool:
+    """A warning triangle with "!" and the rule name, its baseline at ``baseline``."""
+    size = 3.2
+    tri = Rect(x, baseline - size + 0.3, size, size)
+    label = _txt(text, tri.right + 0.8, baseline, "start", "finding")
+    bang = _txt("!", tri.x + size / 2, baseline - 0.1, "middle", "finding-mark", bold=True, size=2.2,
+                owner=f"marker:{len(chart.markers)}:{x:.1f}:{baseline:.1f}")
+    box = Rect.union([tri, label.box])
+    if not force and not placer.free(box, within):
+        return False
+    chart.paths.append(Path(((tri.x, tri.bottom), (tri.x + size / 2, tri.y), (tri.right, tri.bottom)),
+                            MEDIUM_MM, closed=True, fill="#ffffff", role="finding-marker"))
+    chart.texts += [bang, label]
+    placer.take(box)
+    return True
+
+
+def split_groups_to_chart(groups: Sequence[SplitGroup]) -> list[SplitGroup]:
+    """The groups that get a range chart: real splits (more than one element, or one
+    over part of the CO)."""
+    return [g for g in groups if g.is_split]
+
+
+def range_chart_svg(group: SplitGroup, findings: Sequence[Finding] = ()) -> str:
+    """SVG text of the range chart of ``group`` (natural size ``CHART_WIDTH_MM`` wide)."""
+    from loopdocs.draw.svg import svg_document
+
+    return svg_document(chart_layout(group, findings))
+
