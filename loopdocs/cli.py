@@ -14,6 +14,7 @@ import typer
 COMMAND_MODULES = (
     "loopdocs.commands.check",
     "loopdocs.commands.init",
+    "loopdocs.commands.draw",
 )
 
 app = typer.Typer(
