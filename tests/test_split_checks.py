@@ -492,3 +492,18 @@ def test_controller_without_action(index_files):
 
 def test_complete_data_leaves_nothing_unverified(index_files):
     assert of(index_files.check([CTRL, cool(), heat()]), "check.not-verified") == []
+
+
+def test_driven_valve_without_actuator_data(index_files):
+    f = only(index_files.check([FIC, single(air_action=None, fail_position=None)]), "check.not-verified")
+    assert (f.tags, index_files.where(f)) == (("FV-101",), index_files.cell("air_action", 1))
+    assert "Air Action and Fail Position blank" in f.message
+
+
+def test_relay_without_a_controller(index_files):
+    rows = [{"tag": "PY-201", "signal": "3-15 psig"},
+            single(tag="PV-201", driver="PY-201", signal="3-15 psig", input_low=3, input_high=15, input_units="psig")]
+    result = index_files.check(rows)
+    assert of(result, "split.driver") == []  # a relay may drive valves (DESIGN §3.3)
+    f = only(result, "check.not-verified")
+    assert (f.tags, index_files.where(f)) == (("PY-201", "PV-201"), index_files.cell("driven_by", 0))

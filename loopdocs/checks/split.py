@@ -83,7 +83,8 @@ def driver(ctx: Context) -> Iterator[Finding]:
         if ctrl is not None and ctrl.kind in _DRIVERS:
             continue
         referrers = [e.record for e in group.elements] + list(group.converters)
-        referrer = min((t for t in referrers if t.driven_by == group.controller), key=lambda t: t.row)
+        referrer = min((t for t in referrers if t.driven_by == group.controller), key=lambda t: t.row,
+                       default=group.elements[0].record)
         subject = f"{_names(group.elements)} {'is' if len(group.elements) == 1 else 'are'} driven by {group.controller}"
         if ctrl is None:
             loop = project.loops.get(referrer.loop)

@@ -2,7 +2,8 @@
 
 - ``valve.air-fail`` (error): a spring-return actuator fails where its spring pushes it:
   ATO fails closed (FC), ATC fails open (FO). FL and FAI are not spring positions and are
-  not checked. Applies to every final element with an Air Action or Fail Position.
+  not checked. Applies to every final element with an Air Action or Fail Position (and
+  says it could not verify a driven element that has neither).
 - ``valve.signal-loss`` (warning): position on loss of the input signal (below the live
   zero, so ``u = 0``; ``u = 1`` for a reversed input range) differs from the declared FC
   or FO. Every valve, split or not. Not reported where ``valve.air-fail`` already is.
@@ -39,7 +40,12 @@ def air_fail(ctx: Context) -> Iterator[Finding | Unverified]:
     """``valve.air-fail``: ATO fails closed, ATC fails open (spring-return actuators)."""
     project = ctx.project
     for tag in project.tags.values():
-        if tag.kind is not TagKind.FINAL_ELEMENT or (tag.air_action is None and tag.fail_position is None):
+        if tag.kind is not TagKind.FINAL_ELEMENT:
+            continue
+        if tag.air_action is None and tag.fail_position is None:
+            if tag.driven_by:  # a control valve (it has a controller) without its actuator data
+                yield Unverified(tag.tag, "air action against fail position (Air Action and Fail Position blank)",
+                                 tag.loop, (tag.tag,), project.cell(tag, "air_action"))
             continue
         if tag.air_action is None or tag.fail_position is None:
             missing = "air_action" if tag.air_action is None else "fail_position"
@@ -98,10 +104,15 @@ def control_sense(ctx: Context) -> Iterator[Finding | Unverified]:
     project = ctx.project
     for group in ctx.groups:
         ctrl = group.controller_record
-        if ctrl is None or ctrl.kind is not TagKind.CONTROLLER:
-            continue
         usable = [e for e in group.elements if e.intent is not None]
-        if not usable:
+        if ctrl is None or not usable:
+            continue  # split.driver / split.segment report these
+        if ctrl.kind is TagKind.RELAY:
+            yield Unverified(ctrl.tag, f"the control sense ({ctrl.tag} is a relay with no Driven By: its controller "
+                                       "and action are not known)", group.loop, group_tags(group),
+                             project.cell(ctrl, "driven_by"))
+            continue
+        if ctrl.kind is not TagKind.CONTROLLER:
             continue
         if ctrl.control_action is None:
             yield Unverified(ctrl.tag, "the control sense (Control Action blank)", group.loop, group_tags(group),

@@ -536,7 +536,11 @@ def _build_element(
     elif single or method == "dcs" or settings is None:
         ta, tb = 0.0, 100.0
         source = INTENT_DEFAULT
-        notes["travel"] = "travel blank, taken as 0 to 100 % (opens as CO rises)"
+        notes["travel"] = (
+            "travel blank, taken as 0 to 100 % (opens as CO rises)" if travel_given == (None, None)
+            else f"{'Travel at Start %' if travel_given[0] is None else 'Travel at End %'} blank, "
+                 "travel taken as 0 to 100 % (opens as CO rises)"
+        )
     else:
         source = INTENT_FROM_SETTINGS
         if co_given == (None, None):
