@@ -214,18 +214,25 @@ class CalibrationTable:
 _UNIT_DECIMALS = {"mA": 3, "mV": 3, "ohm": 3, "psig": 3, "kPa": 2, TRAVEL_UNIT: 1, CO_UNIT: 0}
 
 
-def display_decimals(span: float, unit: str) -> int:
+def display_decimals(span: float, unit: str, resolve: float | None = None) -> int:
     """Decimals to show a value: fixed for signal and sensor units, else enough to
-    resolve 1/10 000 of the span (0 to 5).
+    resolve 1/10 000 of the span (0 to 5); at least enough to show ``resolve`` (a
+    tolerance) to two significant digits.
 
     >>> display_decimals(16.0, "mA"), display_decimals(45.0, "degC"), display_decimals(3200.0, "mm")
     (3, 2, 0)
+    >>> display_decimals(2.5, "barg", resolve=0.0025)
+    4
     """
     if unit in _UNIT_DECIMALS:
-        return _UNIT_DECIMALS[unit]
-    if not span or not math.isfinite(span):
-        return 3
-    return max(0, min(5, 3 - math.floor(math.log10(abs(span)))))
+        decimals = _UNIT_DECIMALS[unit]
+    elif not span or not math.isfinite(span):
+        decimals = 3
+    else:
+        decimals = max(0, min(5, 3 - math.floor(math.log10(abs(span)))))
+    if resolve is not None and resolve > 0 and math.isfinite(resolve):
+        decimals = max(decimals, min(6, math.ceil(-math.log10(resolve)) + 1))
+    return decimals
 
 
 def ne43_note(levels: NE43Levels) -> str:
@@ -558,13 +565,6 @@ def stroke_table(
     ]
     if settings.method == "pneumatic":
         notes.append("pneumatic split: the range is the positioner input range, or the actuator spring range without positioner")
-    if settings.method == "dcs":
-        sc = dcs_scaling
-        if sc is not None:
-            notes.append(
-                f"control-system output scaling: output 0 % at CO {sc.co_at_0_pct:g} %, 100 % at CO "
-                f"{sc.co_at_100_pct:g} %" + (" (reversed)" if sc.reversed else "")
-            )
     return CalibrationTable(
         tag=tag,
         kind="final element",
@@ -622,7 +622,8 @@ def loop_check_table(
         )
     notes = [
         f"intent: travel {intent.travel_start_pct:g} % at CO {intent.co_start_pct:g} %, "
-        f"{intent.travel_end_pct:g} % at CO {intent.co_end_pct:g} %, held outside"
+        f"{intent.travel_end_pct:g} % at CO {intent.co_end_pct:g} %, held outside",
+        "set the controller output in manual; the signal is what the element should receive",
     ]
     if settings is not None:
         err, at_co = max_travel_error(intent, settings, dcs_scaling)
