@@ -1,0 +1,293 @@
+"""The calibration tables of a project: records in, tables out (DESIGN §4).
+
+Which table each tag gets:
+
+- transmitter with a range and an analog or digital output: five points rising and
+  falling (``calc.calibration.transmitter_table``); a Sensor adds the ohm or mV to
+  simulate; a 4-20 mA output adds the NAMUR NE 43 levels;
+- element with a Sensor and a range (``TE``): the sensor alone, temperature in,
+  ohm or mV out (``sensor_table``);
+- relay or converter (``Y``) with an input range in a signal unit and a signal output
+  (an I/P): the converter table;
+- final element in a split group of ``loopdocs.model.groups``: the stroke table from
+  the settings the group gives (input range, or control-system scaling); for a group of
+  two or more, also the loop check of each element (CO every 10 % against travel).
+
+Every other tag is listed as skipped, with the reason, so nothing is left out silently.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from typing import Any, Iterable
+
+from loopdocs.calc.calibration import (
+    CalibrationTable,
+    converter_table,
+    loop_check_table,
+    sensor_table,
+    stroke_table,
+    transmitter_table,
+)
+from loopdocs.calc.signals import MA_4_20, SignalSpan, pneumatic_span
+from loopdocs.model.records import Project, Tag
+from loopdocs.model.tagname import TagKind
+from loopdocs.model.vocab import Signal
+
+
+@dataclass(frozen=True)
+class Skipped:
+    """A tag that got no table, and why."""
+
+    tag: str
+    reason: str
+    loop: str = ""
+
+    def as_json(self) -> dict[str, Any]:
+        return {"tag": self.tag, "loop": self.loop, "reason": self.reason}
+
+
+@dataclass(frozen=True)
+class CalibrationSet:
+    """All tables of a project, in index order (loop checks after their group's elements)."""
+
+    project: str
+    index_path: str
+    tables: tuple[CalibrationTable, ...]
+    skipped: tuple[Skipped, ...] = ()
+    reference_junction_c: float | None = None
+    calibrator_unit: str | None = None
+    revision: str = ""
+    loop_services: dict[str, str] = field(default_factory=dict, compare=False)
+    """Loop id -> service (for sheet titles)."""
+    loop_areas: dict[str, str] = field(default_factory=dict, compare=False)
+    """Loop id -> plant area prefix ('' when the tags have none)."""
+
+    def select(self, names: Iterable[str]) -> "CalibrationSet":
+        """Only the tables (and skipped tags) whose tag or loop is in ``names`` (case-insensitive)."""
+        wanted = {n.strip().upper() for n in names if n.strip()}
+        if not wanted:
+            return self
+        tables = tuple(t for t in self.tables if t.tag.upper() in wanted or t.loop.upper() in wanted)
+        skipped = tuple(s for s in self.skipped if s.tag.upper() in wanted or s.loop.upper() in wanted)
+        return replace(self, tables=tables, skipped=skipped)
+
+    def as_json(self) -> dict[str, Any]:
+        """DESIGN §5: ``{instruments: [...]}``, plus the skipped tags and the options used."""
+        return {
+            "instruments": [t.as_json() for t in self.tables],
+            "skipped": [s.as_json() for s in self.skipped],
+            "reference_junction_c": self.reference_junction_c,
+            "calibrator_unit": self.calibrator_unit,
+        }
+
+
+# --------------------------------------------------------------------------- per tag
+
+
+def output_span(signal: Signal | None) -> tuple[SignalSpan | None, str | None]:
+    """The output span for a Signal: (span, None), (None, None) for digital, or (None, reason)."""
+    if signal is None:
+        return None, "Signal blank: the output to expect is not known"
+    if signal.is_analog_ma:
+        return MA_4_20, None
+    if signal.is_pneumatic:
+        return pneumatic_span("psig" if signal is Signal.PSIG_3_15 else "kPa"), None
+    if signal is Signal.FIELDBUS:
+        return None, None
+    return None, f"Signal {signal.value}: not a transmitter output loopdocs can tabulate"
+
+
+def _accuracy_note(tag: Tag) -> list[str]:
+    return [] if tag.accuracy_pct is not None else ["Accuracy % blank in the index: no tolerance, points cannot be judged"]
+
+
+def transmitter_for(
+    tag: Tag, reference_junction_c: float | None = None, calibrator_unit: str | None = None
+) -> CalibrationTable | Skipped:
+    """The five-point table of a transmitter row, or why there is none."""
+    if not tag.has_range:
+        return Skipped(tag.tag, "Range Low/Range High blank", tag.loop)
+    if not tag.units:
+        return Skipped(tag.tag, "Units blank: the input unit is not known", tag.loop)
+    span, reason = output_span(tag.signal)
+    if reason:
+        return Skipped(tag.tag, reason, tag.loop)
+    notes = _accuracy_note(tag)
+    transfer = tag.transfer.value if tag.transfer else "linear"
+    if tag.transfer is None:
+        notes.append("Transfer blank: linear taken")
+    if span is None:
+        notes.append("digital output: read the process value on the host or a handheld")
+    from loopdocs.calc.units import is_length
+
+    if is_length(tag.units):
+        notes.append(
+            f"range in {tag.units}: the pressure or level to apply depends on the liquid density and the "
+            "mounting, which the index does not give"
+        )
+    sensor = tag.sensor.value if tag.sensor else None
+    if sensor:
+        from loopdocs.calc.units import is_temperature
+
+        if not is_temperature(tag.units):
+            return Skipped(tag.tag, f"Sensor {sensor} with Units {tag.units!r}: a temperature unit is needed", tag.loop)
+    try:
+        table = transmitter_table(
+            tag.tag, tag.range_low, tag.range_high, tag.units, span, transfer, tag.accuracy_pct,
+            sensor=sensor, reference_junction_c=reference_junction_c, calibrator_unit=calibrator_unit,
+        )
+    except ValueError as exc:
+        return Skipped(tag.tag, str(exc), tag.loop)
+    return table.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
+
+
+def sensor_for(tag: Tag) -> CalibrationTable | Skipped:
+    """The sensor table of a temperature element, or why there is none."""
+    if tag.sensor is None:
+        return Skipped(tag.tag, "element without a Sensor: nothing to calibrate", tag.loop)
+    if not tag.has_range or not tag.units:
+        return Skipped(tag.tag, f"Sensor {tag.sensor.value} without Range Low/High and Units", tag.loop)
+    try:
+        table = sensor_table(tag.tag, tag.sensor.value, tag.range_low, tag.range_high, tag.units, tag.accuracy_pct)
+    except ValueError as exc:
+        return Skipped(tag.tag, str(exc), tag.loop)
+    return table.with_context(loop=tag.loop, service=tag.service or "", notes=_accuracy_note(tag))
+
+
+def converter_for(tag: Tag) -> CalibrationTable | Skipped:
+    """The table of a signal converter (I/P): input range in mA, pneumatic output."""
+    span, reason = output_span(tag.signal)
+    if reason or span is None:
+        return Skipped(tag.tag, reason or "relay with a digital output: nothing to calibrate", tag.loop)
+    if not tag.has_range or (tag.units or "").strip().lower() != "ma":
+        return Skipped(tag.tag, "relay/converter without an input range in mA (Range Low/High, Units)", tag.loop)
+    try:
+        in_span = SignalSpan(min(tag.range_low, tag.range_high), max(tag.range_low, tag.range_high), "mA")
+        table = converter_table(tag.tag, in_span, span, tag.accuracy_pct)
+    except ValueError as exc:
+        return Skipped(tag.tag, str(exc), tag.loop)
+    return table.with_context(loop=tag.loop, service=tag.service or "", notes=_accuracy_note(tag))
+
+
+_NOT_CALIBRATED = {
+    TagKind.CONTROLLER: "controller: configured in the control system, not calibrated in the field",
+    TagKind.INDICATOR: "indicator: checked with its transmitter's loop",
+    TagKind.SWITCH: "switch: set point test, not a five-point calibration",
+    TagKind.ALARM: "alarm: configured in the control system",
+    TagKind.OTHER: "function letters without a calibration kind",
+}
+
+
+# --------------------------------------------------------------------------- project
+
+
+def calibration_set(
+    project: Project,
+    *,
+    reference_junction_c: float | None = None,
+    calibrator_unit: str | None = None,
+) -> CalibrationSet:
+    """Every table of ``project`` (module docstring), in index order."""
+    tables: list[CalibrationTable] = []
+    skipped: list[Skipped] = []
+    group_tables, group_skipped = _split_group_tables(project)
+    for tag in sorted(project.tags.values(), key=lambda t: t.row):
+        if tag.tag in group_tables or tag.tag in group_skipped:
+            tables += group_tables.get(tag.tag, [])
+            if tag.tag in group_skipped:
+                skipped.append(group_skipped[tag.tag])
+            continue
+        result: CalibrationTable | Skipped
+        if tag.kind is TagKind.TRANSMITTER:
+            result = transmitter_for(tag, reference_junction_c, calibrator_unit)
+        elif tag.kind is TagKind.ELEMENT:
+            result = sensor_for(tag)
+        elif tag.kind is TagKind.RELAY:
+            result = converter_for(tag)
+        elif tag.kind is TagKind.FINAL_ELEMENT:
+            result = Skipped(tag.tag, "Driven By blank: no controller output, so no settings to tabulate", tag.loop)
+        else:
+            result = Skipped(tag.tag, _NOT_CALIBRATED.get(tag.kind, "not calibrated"), tag.loop)
+        (skipped if isinstance(result, Skipped) else tables).append(result)  # type: ignore[arg-type]
+    title = project.config.title_block
+    return CalibrationSet(
+        project=title.project, index_path=project.index_path, tables=tuple(tables), skipped=tuple(skipped),
+        reference_junction_c=reference_junction_c, calibrator_unit=calibrator_unit, revision=title.revision,
+        loop_services={lid: loop.service or "" for lid, loop in project.loops.items()},
+        loop_areas={t.loop: t.parts.area for t in project.tags.values()},
+    )
+
+
+def _split_group_tables(project: Project) -> tuple[dict[str, list[CalibrationTable]], dict[str, Skipped]]:
+    """From the split groups of ``loopdocs.model.groups``: tag -> its tables, and tag -> why
+    it has none. Each element gets its stroke table; the loop checks of a group (two or
+    more elements, or one over part of the CO) follow its last element in index order;
+    a group's converters (I/P) get theirs."""
+    from loopdocs.model.groups import groups_for
+
+    tables: dict[str, list[CalibrationTable]] = {}
+    skipped: dict[str, Skipped] = {}
+    for group in groups_for(project):
+        loop_checks: list[CalibrationTable] = []
+        for element in group.elements:
+            stroke = _stroke_for(element)
+            if isinstance(stroke, Skipped):
+                skipped[element.tag] = stroke
+            else:
+                tables[element.tag] = [stroke]
+            if group.is_split and element.intent is not None:
+                loop_checks.append(_loop_check_for(group, element))
+        if loop_checks:
+            last = max(group.elements, key=lambda e: e.record.row)
+            tables.setdefault(last.tag, []).extend(loop_checks)
+        for relay in group.converters:
+            converter = _group_converter(relay)
+            if isinstance(converter, Skipped):
+                skipped[relay.tag] = converter
+            else:
+                tables[relay.tag] = [converter]
+    return tables, skipped
+
+
+def _assumption_notes(element: Any) -> list[str]:
+    return [f"assumed: {text}" for text in element.assumptions.values()]
+
+
+def _stroke_for(element: Any) -> CalibrationTable | Skipped:
+    """The stroke table of one split element (``loopdocs.model.groups.SplitElement``)."""
+    record: Tag = element.record
+    if element.settings is None:
+        return Skipped(element.tag, f"no stroke table: {element.settings_problem}", element.loop)
+    scaling = element.required_dcs_scaling if element.method == "dcs" else None
+    table = stroke_table(element.tag, element.settings, record.accuracy_pct, scaling)
+    notes = _assumption_notes(element)
+    if element.input_range is not None and element.input_units != element.settings.span.unit:
+        lo, hi = element.input_range
+        notes.append(f"input range as set: {lo:g} to {hi:g} {element.input_units} (shown in {element.settings.span.unit})")
+    return table.with_context(loop=element.loop, service=record.service or "", notes=notes)
+
+
+def _loop_check_for(group: Any, element: Any) -> CalibrationTable:
+    """CO every 10 % against the expected travel of one element of a split group."""
+    record: Tag = element.record
+    scaling = element.required_dcs_scaling if element.method == "dcs" else None
+    table = loop_check_table(element.tag, element.intent, element.settings, scaling, record.accuracy_pct)
+    notes = [f"{group.mode} split driven by {group.controller} ({element.method})"]
+    if element.intent_source == "settings":
+        notes.append("travel not stated in the index: expected travel taken from the positioner settings")
+    elif element.intent_source == "default":
+        notes.append("travel not stated in the index: 0 to 100 % (opens as CO rises) taken")
+    return table.with_context(loop=group.loop, service=record.service or "", notes=notes)
+
+
+def _group_converter(relay: Tag) -> CalibrationTable | Skipped:
+    """An I/P of a group: its own range when given, else the standard 4-20 mA input."""
+    if relay.has_range:
+        return converter_for(relay)
+    span, reason = output_span(relay.signal)
+    if reason or span is None:
+        return Skipped(relay.tag, reason or "converter with a digital output", relay.loop)
+    table = converter_table(relay.tag, MA_4_20, span, relay.accuracy_pct)
+    notes = _accuracy_note(relay) + ["Range blank: 4-20 mA input taken"]
+    return table.with_context(loop=relay.loop, service=relay.service or "", notes=notes)

@@ -1,0 +1,85 @@
+"""``loopdocs calibrate``: calibration tables per tag, as text, DESIGN §5 JSON, or the
+technicians' workbook."""
+
+from __future__ import annotations
+
+import json
+import sys
+from enum import Enum
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+from loopdocs.commands import FormatOpt, OutputFormat, PathArg, fail_input
+from loopdocs.errors import InputError
+
+
+class SheetPer(str, Enum):
+    loop = "loop"
+    area = "area"
+
+
+TagOpt = Annotated[Optional[list[str]], typer.Option(
+    "--tag", "-t", help="Only this tag or loop id (repeat for more).")]
+RefJunctionOpt = Annotated[Optional[float], typer.Option(
+    "--ref-junction-c", help="Thermocouple reference-junction (transmitter terminal) temperature, degC: "
+                             "the mV to inject is also given for it. The 0 degC values are always given.")]
+PressureUnitOpt = Annotated[Optional[str], typer.Option(
+    "--pressure-unit", help="Also show pressure inputs in this unit (what the calibrator reads), e.g. kPa, psi, mbar.")]
+OutOpt = Annotated[Optional[Path], typer.Option(
+    "--out", "-o", help="Write the technicians' workbook (.xlsx) here.")]
+SheetPerOpt = Annotated[SheetPer, typer.Option(
+    "--sheet-per", help="Workbook sheets: one per loop, or one per plant area (tag prefix).")]
+
+
+def calibrate(
+    path: PathArg,
+    format: FormatOpt = OutputFormat.text,
+    tag: TagOpt = None,
+    ref_junction_c: RefJunctionOpt = None,
+    pressure_unit: PressureUnitOpt = None,
+    out: OutOpt = None,
+    sheet_per: SheetPerOpt = SheetPer.loop,
+) -> None:
+    """Calibration values for every transmitter, sensor, converter and final element.
+
+    Exit code 0 when written, 2 when the input could not be read or an option is wrong.
+    """
+    from loopdocs.calibration import calibration_set
+    from loopdocs.pipeline import load_project
+
+    try:
+        if pressure_unit:
+            from loopdocs.calc.units import is_pressure
+
+            if not is_pressure(pressure_unit):
+                raise InputError(f"--pressure-unit {pressure_unit!r} is not a pressure unit pint knows (kPa, psi, mbar ...)")
+        project, _ = load_project(path)
+        cset = calibration_set(project, reference_junction_c=ref_junction_c, calibrator_unit=pressure_unit)
+        if tag:
+            cset = cset.select(tag)
+            if not cset.tables and not cset.skipped:
+                raise InputError(f"no tag or loop matches {', '.join(tag)}")
+        if out is not None:
+            from loopdocs.calibration_workbook import write_workbook
+
+            try:
+                counts = write_workbook(cset, out, sheet_per=sheet_per.value)
+            except OSError as exc:
+                raise InputError(f"{out}: cannot be written ({exc.strerror or exc})") from None
+    except InputError as exc:
+        fail_input(exc)
+    if format is OutputFormat.json:
+        json.dump(cset.as_json(), sys.stdout, indent=2)
+        sys.stdout.write("\n")
+    else:
+        from loopdocs.calibration_text import print_calibration
+
+        print_calibration(cset)
+    if out is not None:
+        typer.echo(f"wrote {out}: {sum(counts.values())} test points on {len(counts)} sheet(s)", err=format is OutputFormat.json)
+
+
+def register(app: typer.Typer) -> None:
+    app.command()(calibrate)

@@ -1,0 +1,167 @@
+"""The technicians' workbook written by ``loopdocs calibrate --out`` (loopdocs.calibration_workbook)."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import openpyxl
+import pytest
+from typer.testing import CliRunner
+
+from loopdocs.calibration import calibration_set
+from loopdocs.calibration_workbook import (
+    CONTENTS_SHEET,
+    HEADER_ROW,
+    RECORD_SHEET,
+    SIMULATE,
+    read_workbook,
+    row_digest,
+    write_workbook,
+)
+from loopdocs.cli import app
+from loopdocs.pipeline import load_project
+from loopdocs.report import CAUTION
+from loopdocs.starter import write_index_workbook
+
+EXAMPLE = Path(__file__).resolve().parent.parent / "project_example"
+runner = CliRunner()
+
+
+@pytest.fixture(scope="module")
+def workbook_path(tmp_path_factory) -> Path:
+    path = tmp_path_factory.mktemp("cal") / "cal.xlsx"
+    result = runner.invoke(app, ["calibrate", str(EXAMPLE), "--out", str(path), "--ref-junction-c", "23"])
+    assert result.exit_code == 0, result.output
+    return path
+
+
+def header(ws) -> dict[str, int]:
+    return {c.value: c.column for c in ws[HEADER_ROW] if c.value}
+
+
+def test_one_sheet_per_loop_plus_contents_and_hidden_record(workbook_path):
+    wb = openpyxl.load_workbook(workbook_path)
+    project, _ = load_project(EXAMPLE)
+    loops_with_tables = {t.loop for t in calibration_set(project).tables}
+    assert wb.sheetnames[0] == CONTENTS_SHEET
+    assert set(wb.sheetnames[1:-1]) == loops_with_tables
+    assert wb.sheetnames[-1] == RECORD_SHEET
+    assert wb[RECORD_SHEET].sheet_state == "veryHidden"
+
+
+def test_every_sheet_is_printable_and_carries_the_cautions(workbook_path):
+    wb = openpyxl.load_workbook(workbook_path)
+    for name in wb.sheetnames[1:-1]:
+        ws = wb[name]
+        text = " ".join(str(c.value) for row in ws.iter_rows(min_row=1, max_row=4) for c in row if c.value)
+        assert CAUTION in text  # isolate and verify; confirm against the design; codes and practice prevail
+        assert ws.page_setup.orientation == "landscape"
+        assert ws.sheet_properties.pageSetUpPr.fitToPage and ws.page_setup.fitToWidth == 1
+        assert ws.page_setup.fitToHeight == 0
+        assert ws.print_title_rows == f"${HEADER_ROW}:${HEADER_ROW}"  # header repeated on every page
+        assert ws.print_area  # set
+        assert ws.freeze_panes == f"C{HEADER_ROW + 1}"
+        assert "&P" in ws.oddHeader.right.text and "&N" in ws.oddHeader.right.text
+        assert ws.oddHeader.center.text == "&A"  # sheet name
+        assert "Kettle Creek" in ws.oddHeader.left.text  # project
+        assert "Isolate" in ws.oddFooter.left.text
+        assert ws.protection.sheet
+
+
+def test_rows_expected_values_limits_and_open_reading_cells(workbook_path):
+    wb = openpyxl.load_workbook(workbook_path)
+    ws = wb["T-3105"]
+    col = header(ws)
+    assert {"Ref", "Apply", SIMULATE, "Simulate, RJ 23 degC", "Expected", "Low limit", "High limit",
+            "As-Found", "As-Left"} <= set(col)
+    rows = {ws.cell(r, 1).value: r for r in range(HEADER_ROW + 1, ws.max_row + 1) if ws.cell(r, 1).value}
+    r = rows["TT-3105/03"]  # 50 % up: 17.5 degC -> 12 mA, 0.25 % of 16 mA = 0.04 mA
+    assert ws.cell(r, col["Point"]).value == 50
+    assert ws.cell(r, col["Apply"]).value == pytest.approx(17.5)
+    assert ws.cell(r, col["Expected"]).value == pytest.approx(12.0)
+    assert ws.cell(r, col["Low limit"]).value == pytest.approx(11.96)
+    assert ws.cell(r, col["High limit"]).value == pytest.approx(12.04)
+    assert ws.cell(r, col["As-Found"]).value is None and ws.cell(r, col["As-Left"]).value is None
+    # only the reading cells are unlocked on a protected sheet
+    assert not ws.cell(r, col["As-Found"]).protection.locked
+    assert not ws.cell(r, col["As-Left"]).protection.locked
+    assert ws.cell(r, col["Expected"]).protection.locked
+    # a sensor without Accuracy % has no limits (nothing is invented)
+    r = rows["TE-3105/01"]
+    assert ws.cell(r, col["Low limit"]).value is None
+
+
+def test_reading_cells_take_numbers_only(workbook_path):
+    wb = openpyxl.load_workbook(workbook_path)
+    ws = wb["T-3105"]
+    col = header(ws)
+    found = openpyxl.utils.get_column_letter(col["As-Found"])
+    rows = [r for r in range(HEADER_ROW + 1, ws.max_row + 1) if ws.cell(r, 1).value and "/" in str(ws.cell(r, 1).value)
+            and " " not in str(ws.cell(r, 1).value)]
+    validations = ws.data_validations.dataValidation
+    assert validations and all(v.type == "decimal" for v in validations)
+    for r in rows:
+        assert any(f"{found}{r}" in v.sqref for v in validations), r
+
+
+def test_thermocouple_columns_in_the_workbook(workbook_path):
+    # NIST Monograph 175 type K (from memory): E(150) = 6.138 mV; E(23) = 0.919 mV, so at a 23 degC
+    # reference junction the calibrator injects 5.219 mV.
+    ws = openpyxl.load_workbook(workbook_path)["T-7402"]
+    col = header(ws)
+    rows = {ws.cell(r, 1).value: r for r in range(HEADER_ROW + 1, ws.max_row + 1) if ws.cell(r, 1).value}
+    r = rows["TT-7402A/02"]
+    assert ws.cell(r, col[SIMULATE]).value == pytest.approx(6.138, abs=0.0006)
+    assert ws.cell(r, col["Simulate, RJ 23 degC"]).value == pytest.approx(6.138 - 0.919, abs=0.001)
+
+
+def test_dcs_scaling_and_ne43_are_written_for_the_technician(workbook_path):
+    ws = openpyxl.load_workbook(workbook_path)["L-2101"]
+    text = [str(c.value) for row in ws.iter_rows() for c in row if isinstance(c.value, str)]
+    assert any("ENTER IN THE CONTROL SYSTEM for LV-2101A" in t and "CO 25 %" in t for t in text)
+    assert any(t.startswith("NAMUR NE 43") for t in text)
+
+
+def test_record_matches_the_visible_rows(workbook_path):
+    returned = read_workbook(workbook_path)
+    seen = {row.ref: row for row in returned.seen}
+    assert len(returned.issued) == len(seen) > 500
+    for issued in returned.issued:
+        assert issued.own_digest() == issued.digest
+        assert seen[issued.ref].digest() == issued.digest
+
+
+def test_digest_changes_with_any_expected_value():
+    base = ("TT-1/01", "TT-1", "calibration", 0.0, "up", 0.0, 4.0, "mA", 3.96, 4.04)
+    assert row_digest(*base) == row_digest(*base)
+    for i, changed in ((6, 4.01), (8, 3.9), (5, 0.5), (4, "down")):
+        edited = list(base)
+        edited[i] = changed
+        assert row_digest(*edited) != row_digest(*base)
+    # a value that went through a spreadsheet program's float formatting keeps its digest
+    assert row_digest(*base[:6], 12.000000000000002, *base[7:]) == row_digest(*base[:6], 12.0, *base[7:])
+
+
+def test_sheet_per_area_and_atomic_write(tmp_path):
+    rows = [
+        {"tag": "41-PT-101", "signal": "4-20 mA", "range_low": 0, "range_high": 10, "units": "barg", "accuracy_pct": 0.1},
+        {"tag": "41-PT-102", "signal": "4-20 mA", "range_low": 0, "range_high": 6, "units": "barg", "accuracy_pct": 0.1},
+        {"tag": "42-TT-201", "signal": "4-20 mA", "sensor": "Pt100", "range_low": 0, "range_high": 100, "units": "degC",
+         "accuracy_pct": 0.25},
+    ]
+    index = tmp_path / "index.xlsx"
+    write_index_workbook(index, rows)
+    project, _ = load_project(index)
+    out = tmp_path / "by_area.xlsx"
+    counts = write_workbook(calibration_set(project), out, sheet_per="area")
+    assert counts == {"41": 20, "42": 10}
+    assert not list(tmp_path.glob(".*.part"))  # no half-written temporary left behind
+    assert openpyxl.load_workbook(out).sheetnames == [CONTENTS_SHEET, "41", "42", RECORD_SHEET]
+
+
+def test_unwritable_out_is_one_line_exit_2(tmp_path):
+    blocker = tmp_path / "file"
+    blocker.write_text("x")
+    result = runner.invoke(app, ["calibrate", str(EXAMPLE), "--out", str(blocker / "cal.xlsx")])
+    assert result.exit_code == 2
+    assert "Traceback" not in result.output and len(result.output.strip().splitlines()) == 1
