@@ -16,6 +16,7 @@ COMMAND_MODULES = (
     "loopdocs.commands.init",
     "loopdocs.commands.draw",
     "loopdocs.commands.calibrate",
+    "loopdocs.commands.verify",
 )
 
 app = typer.Typer(
