@@ -329,3 +329,19 @@ def test_recommended_settings_realise_the_intent(intent, case, air, positioner):
         assert e.realised_travel_pct(co) == pytest.approx(e.intended_travel_pct(co), abs=1e-6)
     rules = {f.rule for f in run_checks(project) if "TV-101A" in f.tags}
     assert not rules & {"split.settings", "split.double-split", "split.segment"}
+
+
+def test_human_output_has_a_split_summary_per_group():
+    from typer.testing import CliRunner
+
+    from loopdocs.cli import app
+
+    result = CliRunner().invoke(app, ["check", str(EXAMPLE)], env={"COLUMNS": "200"})
+    assert result.exit_code == 0, result.output
+    out = result.output
+    assert "Split ranges (5)" in out
+    assert "TIC-3105 (loop T-3105): staged-opposed, split in the positioners" in out
+    assert "PIC-4120 (loop P-4120): staged, pneumatic split on 3.00 to 15.00 psig via PY-4120" in out
+    assert "nothing moves over CO 48 to 52 % (4 %)" in out
+    assert "boundaries in proportion to Cv: 25 %" in out
+    assert "output 0 % at CO 45 %, 100 % at CO 0 % (reversed)" in out

@@ -51,7 +51,8 @@ Public API
     ``intent_source`` (``stated``, ``default`` or ``settings``), ``air_action``,
     ``positioner_action``, ``input_units``, ``input_range`` (as set, in
     ``input_units``; ``None`` when blank), ``settings`` (``Settings`` in span units, or
-    ``None``; ``settings_problem`` says why), ``required_input_range`` (the input range
+    ``None``; ``settings_problem`` says why, ``settings_problem_key`` names its column and
+    ``settings_problem_is_error`` tells a contradiction from a blank), ``required_input_range`` (the input range
     that realises the intent, in ``input_units``; for ``dcs`` the full span),
     ``required_dcs_scaling`` (``DcsScaling``: CO at 0 % and 100 % output, ``reversed``;
     ``dcs`` only), ``travel_error`` (largest ``|realised - intended|`` travel, %, and the
@@ -63,6 +64,9 @@ Public API
 ``convert_signal(value, from_unit, to_unit)``
     Converts an input-range value between signal units (mA; psi = psig, kPa = kPag,
     bar = barg, mbar, any pressure unit pint knows). Same units never import pint.
+
+Helpers for messages and sheets: ``span_of_signal(signal)`` (index Signal -> span),
+``canonical_unit``, ``fmt_pct``, ``fmt_signal``, ``fmt_range``.
 """
 
 from __future__ import annotations
