@@ -252,7 +252,7 @@ def _range_text(tag: Tag) -> str | None:
 def _service_lines(tag: Tag, loop_service: str | None) -> list[str]:
     if not tag.service or tag.service == loop_service:
         return []
-    return wrap_text(tag.service, SERVICE_WRAP_MM, TEXT_MM, max_lines=3, balanced=True)
+    return wrap_text(tag.service, SERVICE_WRAP_MM, TEXT_MM, max_lines=4, balanced=True)
 
 
 def instrument_cluster(tag: Tag, band: str, above: Iterable[str] = (), below: Iterable[str] = (),
@@ -354,7 +354,7 @@ def valve_cluster(tag: Tag, loop_service: str | None) -> Cluster:
         drawing.texts += _stack_lines(service, stem_x, y + 0.5, "middle", "service")
     setting = _split_setting_text(tag)
     if setting:
-        anchor_x = positioner.box.x if positioner is not None else 0.0
+        anchor_x = positioner.box.x if positioner is not None else valve.box.right + 0.5
         top = (positioner.box.bottom if positioner is not None else 1.5) + 0.8
         drawing.texts.append(_text(setting, anchor_x, top + ASCENT_EM * TEXT_MM, "start", "split-setting"))
     return Cluster(drawing, attach_out=(0.0, 0.0), points={"attach": (0.0, 0.0)})
@@ -748,6 +748,10 @@ def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, in
     fn_row: int | None = None
     if fn is not None:
         station = Station(_column_of_device(fn), ("function", fn), key=("function", fn.tag))
+        # a row whose wiring already reaches past the function's column cannot run on to it
+        for row in rows:
+            if row.linked and row.stations and COLUMNS.index(row.stations[-1].column) >= COLUMNS.index(station.column):
+                row.linked = False
         outs = [i for i in range(output_start, len(rows)) if rows[i].role == "output" and rows[i].linked]
         ins = [i for i in range(output_start) if rows[i].linked]
         candidates = outs[:1] or ins[-1:]

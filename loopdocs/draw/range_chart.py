@@ -511,7 +511,7 @@ def _marker(chart: RangeChart, placer: _Placer, x: float, baseline: float, text:
     size = 3.2
     tri = Rect(x, baseline - size + 0.3, size, size)
     label = _txt(text, tri.right + 0.8, baseline, "start", "finding")
-    bang = _txt("!", tri.x + size / 2, baseline - 0.1, "middle", "finding-mark", bold=True, size=2.2,
+    bang = _txt("!", tri.x + size / 2, baseline - 0.1, "middle", "finding-mark", bold=True, size=TEXT_MM,
                 owner=f"marker:{len(chart.markers)}:{x:.1f}:{baseline:.1f}")
     box = Rect.union([tri, label.box])
     if not force and not placer.free(box, within):
