@@ -13,7 +13,7 @@ _STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "invalid": "FFC7CE", "refuse
 def write_summary(report: VerifyReport, path: Path) -> None:
     """Write the verification summary to ``path`` (atomically)."""
     from openpyxl import Workbook
-    from openpyxl.styles import Font, PatternFill
+    from openpyxl.styles import Alignment, Font, PatternFill
     from openpyxl.worksheet.properties import PageSetupProperties
 
     from loopdocs.report import CAUTION
@@ -36,6 +36,8 @@ def write_summary(report: VerifyReport, path: Path) -> None:
     ws.append(header)
     for cell in ws[5]:
         cell.font = bold
+        cell.alignment = Alignment(wrap_text=True, vertical="bottom")
+    ws.row_dimensions[5].height = 30
     for t in report.tags:
         k = t.counts
         ws.append([t.tag, t.check, t.loop, t.status, k["pass"], k["fail"], k["invalid"], k["no tolerance"], k["refused"],
@@ -51,6 +53,8 @@ def write_summary(report: VerifyReport, path: Path) -> None:
                 "As-Found", "Error found, % of span", "As-Left", "Error left, % of span", "Status", "Reason"])
     for cell in pts[1]:
         cell.font = bold
+        cell.alignment = Alignment(wrap_text=True, vertical="bottom")
+    pts.row_dimensions[1].height = 30
     rows = [p for t in report.tags for p in t.points] + list(report.unknown_rows)
     for p in rows:
         f, l = p.as_found, p.as_left
