@@ -62,10 +62,12 @@ def _rows_for_loop(rng: random.Random, number: int, kind: str) -> list[dict[str,
     channel = iter(range(1, 100))
 
     def wiring(io_kind: str) -> dict[str, Any]:
-        rack, slot, ch = rng.randint(1, 4), rng.randint(1, 16), next(channel) + rng.randint(0, 5)
+        # one channel per loop number and signal: addresses never collide across loops
+        ch = next(channel)
+        rack, slot = 1 + number % 4, 1 + (number // 4) % 16
         base = rng.randint(1, 90) * 2
         return {
-            "io_address": f"{cabinet}-R{rack}-S{slot:02d}-{io_kind}{ch:02d}",
+            "io_address": f"{cabinet}-R{rack}-S{slot:02d}-{io_kind}{number:05d}-{ch:02d}",
             "jb": jb,
             "jb_terminals": f"{base}-{base + 1}",
             "cable": f"C-{number}-{io_kind}{ch}",
@@ -123,8 +125,8 @@ def _rows_for_loop(rng: random.Random, number: int, kind: str) -> list[dict[str,
     }
     rows = [transmitter, controller]
 
-    def valve(suffix: str, service: str, cv: float, effect: str) -> dict[str, Any]:
-        air = rng.choice(["ATO", "ATO", "ATC"])
+    def valve(suffix: str, service: str, cv: float, effect: str, air: str | None = None) -> dict[str, Any]:
+        air = air or rng.choice(["ATO", "ATO", "ATC"])
         row = {
             "tag": f"{letter}V-{number}{suffix}",
             "loop": loop,
@@ -178,15 +180,29 @@ def _rows_for_loop(rng: random.Random, number: int, kind: str) -> list[dict[str,
             ("B", f"{unit} {word} mid valve", first, second, 0, 100, "raises"),
             ("C", f"{unit} {word} main valve", second, 100, 0, 100, "raises"),
         ]
+    shared_output = None
+    if method == "pneumatic":
+        # one I/P converter on the controller output feeds the valves' positioners
+        converter = valve("", f"{unit} {word} I/P converter", 0, "raises")
+        for key in ("air_action", "fail_position", "positioner_action", "effect", "cv", "characteristic",
+                    "rangeability", "notes"):
+            converter.pop(key, None)
+        converter.update({"tag": f"{letter}Y-{number}", "signal": "3-15 psig", "range_low": 4,
+                          "range_high": 20, "units": "mA", "device_volts": 9})
+        rows.append(converter)
     for index, (suffix, service, co_start, co_end, t_start, t_end, effect) in enumerate(specs):
-        row = valve(suffix, service, cvs[index] if kind == "split3" else rng.choice([4, 10, 25]), effect)
+        # a valve that closes as CO rises is air-to-close (fails open), with a direct positioner
+        air = "ATC" if t_end < t_start else "ATO"
+        row = valve(suffix, service, cvs[index] if kind == "split3" else rng.choice([4, 10, 25]), effect, air)
         row.update(
             {"split_method": method, "co_start_pct": co_start, "co_end_pct": co_end,
              "travel_start_pct": t_start, "travel_end_pct": t_end}
         )
-        opens_with_co = t_end > t_start
-        direct = row["air_action"] == "ATO"
-        row["positioner_action"] = "direct" if opens_with_co == direct else "reverse"
+        if method == "positioner":  # positioners in series on the controller's one output
+            shared_output = shared_output or row["io_address"]
+            row["io_address"] = shared_output
+        elif method == "pneumatic":
+            row.pop("io_address")
         if method == "dcs":
             row.update({"input_low": 4, "input_high": 20, "input_units": "mA"})
         elif method == "positioner":

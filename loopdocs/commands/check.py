@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import gc
 import json
 import sys
 
@@ -19,12 +20,17 @@ def check(path: PathArg, format: FormatOpt = OutputFormat.text) -> None:
     from loopdocs.pipeline import check_project
     from loopdocs.report import check_json, print_check
 
+    # A one-shot command builds many small records that all live to the end: the cyclic
+    # garbage collector only costs time here (about a third of a 10,000-row check).
+    gc.disable()
     try:
         checked = check_project(path)
     except InputError as exc:
         fail_input(exc)
     if format is OutputFormat.json:
-        json.dump(check_json(checked), sys.stdout, indent=2)
+        # Indented for a person at a terminal; compact (C encoder, several times faster) for tools.
+        indent = 2 if sys.stdout.isatty() else None
+        json.dump(check_json(checked), sys.stdout, indent=indent)
         sys.stdout.write("\n")
     else:
         print_check(checked)
