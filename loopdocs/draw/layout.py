@@ -250,7 +250,9 @@ def _range_text(tag: Tag) -> str | None:
 
 
 def _service_lines(tag: Tag, loop_service: str | None) -> list[str]:
-    if not tag.service or tag.service == loop_service:
+    """The tag's service, wrapped; left out when it only repeats the loop's service
+    (the sheet's title gives that), except for final elements, which it tells apart."""
+    if not tag.service or (tag.service == loop_service and tag.kind is not TagKind.FINAL_ELEMENT):
         return []
     return wrap_text(tag.service, SERVICE_WRAP_MM, TEXT_MM, max_lines=4, balanced=True)
 

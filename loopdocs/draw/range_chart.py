@@ -53,6 +53,7 @@ PLOT_TOP_MM = 16.0
 PLOT_BOTTOM_MM = 78.0
 
 GRID_GREY = "#b3b3b3"
+GRID_GREY_DARK = "#666666"
 GAP_FILL = "#d9d9d9"
 OVERLAP_FILL = "#8c8c8c"
 #: Dash patterns, mm, telling elements apart in black and white: solid, long dash, dash-dot, short dash.
@@ -223,7 +224,7 @@ def _group_findings(group: SplitGroup, findings: Sequence[Finding]) -> list[Find
             continue
         if names.intersection(f.tags):
             out.append(f)
-    return out
+    return sorted(out, key=lambda f: (f.severity.rank, f.rule, f.tags))
 
 
 def _title(group: SplitGroup) -> str:
@@ -356,7 +357,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     for co in recommended:
         x = chart.x_of(co)
         chart.paths.append(Path(((x, plot.y), (x, plot.bottom)), MEDIUM_MM, dash_mm=(3.0, 1.0, 0.6, 1.0),
-                                role="recommended-boundary"))
+                                stroke=GRID_GREY_DARK, role="recommended-boundary"))
         placer.take(Rect(x - 0.4, plot.y, 0.8, plot.height))
 
     # combined capacity, right axis
@@ -382,6 +383,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     # element lines
     obstacles: list[Rect] = []
     drawn: list[SplitElement] = []
+    intents: list[tuple[SplitElement, list[Point]]] = []
     for index, element in enumerate(group.elements):
         result = travel_curve(element)
         if result is None:
@@ -401,6 +403,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
                 imm = [(chart.x_of(co), chart.y_of(t)) for co, t in intent]
                 chart.paths.append(Path(tuple(imm), THIN_MM, dash_mm=(0.8, 0.8), role=f"intent:{element.tag}"))
                 obstacles += _curve_boxes(imm)
+                intents.append((element, imm))
     obstacles += _curve_boxes(cv_points_mm) if cv_points_mm else []
     for box in obstacles:
         placer.take(box)
@@ -423,9 +426,10 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
 
     for co in recommended:
         x = chart.x_of(co)
-        text = f"Cv-proportional {fmt_pct(co)} %"
-        cands = [_txt(text, x + d, plot.y + 1.0 + ASCENT_EM * TEXT_MM + row * LINE_MM, anchor, "recommended")
-                 for row in range(12) for d, anchor in ((1.0, "start"), (-1.0, "end"))]
+        text = f"Cv {fmt_pct(co)} %"
+        rows = int(plot.height // LINE_MM)
+        cands = [_txt(text, x + d, plot.bottom - 1.0 - DESCENT_EM * TEXT_MM - row * LINE_MM, anchor, "recommended")
+                 for row in range(rows) for d, anchor in ((0.8, "start"), (-0.8, "end"))]
         placer.place(chart, cands, inner)
 
     # tag labels beside their lines, where the element moves
@@ -437,15 +441,10 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
             placed = placer.place(chart, [_txt(text, x, y, "start", "curve-label") for x, y in _scan(inner)], inner)
         if placed is not None:
             label_of[element.tag] = placed
+    for element, imm in intents:
+        placer.place(chart, _along(imm, f"{element.tag} intended", "intent-label"), inner)
     if cv_points_mm:
-        cands = []
-        for f in (0.85, 0.7, 0.55, 0.4, 0.25, 0.95, 0.1):
-            px, py = cv_points_mm[min(len(cv_points_mm) - 1, int(round(f * (len(cv_points_mm) - 1))))]
-            cands += [_txt("total Cv", px - 1.0, py - 1.5, "end", "capacity-label"),
-                      _txt("total Cv", px + 1.0, py + 1.5 + ASCENT_EM * TEXT_MM, "start", "capacity-label"),
-                      _txt("total Cv", px - 1.0, py + 1.5 + ASCENT_EM * TEXT_MM, "end", "capacity-label"),
-                      _txt("total Cv", px + 1.0, py - 1.5, "start", "capacity-label")]
-        placer.place(chart, cands, inner)
+        placer.place(chart, _along(cv_points_mm, "total Cv", "capacity-label"), inner)
 
     # findings: a marker with the rule name beside the tag it names, else listed below
     notes: list[str] = []
@@ -456,11 +455,13 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
         placed = False
         if anchor is not None:
             box = anchor.box
+            width = 4.0 + text_width_mm(text, TEXT_MM)
+            base = box.bottom - DESCENT_EM * TEXT_MM
             spots = []
-            for dy in (0.0, LINE_MM, -LINE_MM, 2 * LINE_MM, -2 * LINE_MM, 3 * LINE_MM):
-                spots += [(box.right + 1.0, box.bottom + dy - DESCENT_EM * TEXT_MM),
-                          (box.x, box.bottom + dy + LINE_MM - DESCENT_EM * TEXT_MM)]
-            placed = any(_marker(chart, placer, x, base, text, inner) for x, base in spots)
+            for k in (0, 1, -1, 2, -2, 3, -3, 4, -4, 5, -5):
+                for x in (box.right + 1.0, box.x, box.x - width - 1.0, box.right + 1.0 + width / 2):
+                    spots.append((x, base + k * (LINE_MM + 0.4)))
+            placed = any(_marker(chart, placer, x, b, text, inner) for x, b in spots)
         if not placed:
             notes.append(f"{text}: {', '.join(finding.tags)}")
     y = CHART_HEIGHT_MM - 1.0
@@ -472,6 +473,30 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
 
 
 LINE_MM = 3.3
+
+
+def _along(points_mm: Sequence[Point], text: str, role: str) -> list[PlacedText]:
+    """Label positions beside a polyline, from its right end towards its left."""
+    length = [0.0]
+    for (x0, y0), (x1, y1) in zip(points_mm, points_mm[1:]):
+        length.append(length[-1] + math.hypot(x1 - x0, y1 - y0))
+    out: list[tuple[bool, int, PlacedText]] = []
+    for k in range(19, 0, -1):
+        target = length[-1] * k / 20
+        i = max(j for j in range(len(length)) if length[j] <= target)
+        i = min(i, len(points_mm) - 2)
+        seg = length[i + 1] - length[i] or 1.0
+        f = (target - length[i]) / seg
+        px = points_mm[i][0] + f * (points_mm[i + 1][0] - points_mm[i][0])
+        py = points_mm[i][1] + f * (points_mm[i + 1][1] - points_mm[i][1])
+        # a level stretch (travel held at 0 or 100 %) is shared with other lines: last resort
+        level = abs(points_mm[i + 1][1] - points_mm[i][1]) < 1e-6
+        out += [(level, len(out), t) for t in (
+            _txt(text, px - 1.0, py - 1.5, "end", role),
+            _txt(text, px + 1.0, py + 1.5 + ASCENT_EM * TEXT_MM, "start", role),
+            _txt(text, px - 1.0, py + 1.5 + ASCENT_EM * TEXT_MM, "end", role),
+            _txt(text, px + 1.0, py - 1.5, "start", role))]
+    return [t for _, _, t in sorted(out, key=lambda item: (item[0], item[1]))]
 
 
 def _scan(area: Rect, step: float = 4.0):
