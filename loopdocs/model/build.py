@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import re
 from collections import defaultdict
+from functools import lru_cache
 from typing import Any, Iterable
 
 from loopdocs.findings import Finding, Location, Severity
@@ -51,6 +52,32 @@ def _text(value: Any) -> str:
     if isinstance(value, float) and value.is_integer():
         value = int(value)
     return str(value).strip()
+
+
+def _convert_uncached(key: str, value: Any) -> Any:
+    if key in VOCAB_COLUMNS:
+        return VOCAB_COLUMNS[key].parse(_text(value))
+    if key in NUMERIC_KEYS:
+        return to_number(value)
+    return _text(value)
+
+
+@lru_cache(maxsize=65536)
+def _convert_cached(key: str, value: Any, kind: type) -> Any:
+    return _convert_uncached(key, value)
+
+
+def convert(key: str, value: Any) -> Any:
+    """A cell of column ``key`` as the record holds it: a vocabulary member, a float or
+    stripped text. ``ValueError`` says why a cell cannot be converted.
+
+    Cached on the cell's value and type (an index repeats the same few spellings,
+    ranges and units thousands of times; ``1`` and ``True`` are kept apart).
+
+    >>> convert("air_action", "air to open"), convert("cv", "12.5"), convert("jb", 31)
+    (<AirAction.ATO: 'ATO'>, 12.5, '31')
+    """
+    return _convert_cached(key, value, type(value))
 
 
 def loop_id_for(given: str | None, parts: TagParts) -> tuple[str, bool]:
@@ -143,15 +170,10 @@ def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tup
 
         fields: dict[str, Any] = {}
         for key, value in row.values.items():
-            if key == "tag" or value is None:
+            if key == "tag":
                 continue
             try:
-                if key in VOCAB_COLUMNS:
-                    fields[key] = VOCAB_COLUMNS[key].parse(_text(value))
-                elif key in NUMERIC_KEYS:
-                    fields[key] = to_number(value)
-                else:
-                    fields[key] = _text(value)
+                fields[key] = convert(key, value)
             except ValueError as exc:
                 rule = "index.vocabulary" if key in VOCAB_COLUMNS else "index.not-a-number"
                 findings.append(Finding(

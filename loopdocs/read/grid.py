@@ -107,6 +107,22 @@ def layout(
     return columns, extra
 
 
+def _present(cells: Sequence[Any], wanted: tuple[tuple[str, int], ...], convert: Callable[[Any], CellValue]) -> dict[str, CellValue]:
+    """Key -> value for the non-blank cells among ``wanted`` (blank cells are left out, so
+    ``values.get(key)`` is ``None`` for them). Most index cells are blank: skipping them
+    early is most of the reader's speed on a large index."""
+    width = len(cells)
+    present: dict[str, CellValue] = {}
+    for key, index in wanted:
+        if index < width:
+            raw = cells[index]
+            if raw is not None and raw != "":
+                value = convert(raw)
+                if value is not None:
+                    present[key] = value
+    return present
+
+
 def build_table(
     path: Path,
     sheet: str,
@@ -126,10 +142,9 @@ def build_table(
     unknown = tuple(extra.items())
     rows: list[IndexRow] = []
     for offset, cells in enumerate(grid[header_index + 1 :]):
-        width = len(cells)
-        values = {key: (convert(cells[i]) if i < width else None) for key, i in known}
-        more = {text: (convert(cells[i]) if i < width else None) for text, i in unknown}
-        if any(v is not None for v in values.values()) or any(v is not None for v in more.values()):
+        values = _present(cells, known, convert)
+        more = _present(cells, unknown, convert)
+        if values or more:
             rows.append(IndexRow(header_index + offset + 2, values, more))
     return IndexTable(
         path=path,

@@ -26,7 +26,9 @@ class ReadNotice:
 
 @dataclass
 class IndexRow:
-    """One data row: ``values`` by column key, ``extra`` by unknown header text."""
+    """One data row: ``values`` by column key, ``extra`` by unknown header text.
+
+    Only non-blank cells are present: ``values.get(key)`` is ``None`` for a blank cell."""
 
     row: int
     values: dict[str, CellValue]
