@@ -20,7 +20,7 @@ from urllib.parse import unquote, urlsplit
 from weasyprint import HTML, Attachment
 from weasyprint.urls import URLFetcher
 
-from loopdocs.render.sheet import TEMPLATES_DIR
+from loopdocs.render.sheet import TEMPLATES_DIR, SheetFrame, SheetPieces, sheet_html
 
 PDFA_VARIANT = "pdf/a-3b"
 
@@ -60,6 +60,22 @@ class JsonAttachment:
     description: str = ""
 
 
+def _document(html: str, fetcher: ProjectFetcher, base_url: Path):
+    return HTML(string=html, base_url=str(Path(base_url).resolve()) + "/", url_fetcher=fetcher).render()
+
+
+def _write(document, fetcher: ProjectFetcher, pdfa: bool, attachments: Sequence[JsonAttachment]) -> bytes:
+    files = [
+        Attachment(string=a.data, name=a.name, description=a.description or None,
+                   relationship="Data", url_fetcher=fetcher)
+        for a in attachments
+    ]
+    options = {"attachments": files or None, "pdf_identifier": True if pdfa else None}
+    if pdfa:
+        options["pdf_variant"] = PDFA_VARIANT
+    return document.write_pdf(**options)
+
+
 def html_to_pdf(
     html: str,
     *,
@@ -77,16 +93,24 @@ def html_to_pdf(
     either mode (weasyprint Attachment, relationship ``Data`` in PDF/A-3).
     """
     fetcher = fetcher or ProjectFetcher([TEMPLATES_DIR, *allowed_dirs])
-    document = HTML(string=html, base_url=str(Path(base_url).resolve()) + "/", url_fetcher=fetcher)
-    files = [
-        Attachment(string=a.data, name=a.name, description=a.description or None,
-                   relationship="Data", url_fetcher=fetcher)
-        for a in attachments
-    ]
-    options = {"attachments": files or None, "pdf_identifier": True if pdfa else None}
-    if pdfa:
-        options["pdf_variant"] = PDFA_VARIANT
-    return document.write_pdf(**options)
+    return _write(_document(html, fetcher, base_url), fetcher, pdfa, attachments)
+
+
+def sheet_pdf(
+    pieces: SheetPieces,
+    frame: SheetFrame,
+    *,
+    allowed_dirs: Sequence[Path] = (),
+    pdfa: bool = False,
+    attachments: Sequence[JsonAttachment] = (),
+) -> bytes:
+    """One loop sheet as PDF. A sheet whose content runs over one page is laid out again
+    with ``page n of m`` under the frame of every page."""
+    fetcher = ProjectFetcher([TEMPLATES_DIR, *allowed_dirs])
+    document = _document(sheet_html(pieces, frame), fetcher, TEMPLATES_DIR)
+    if len(document.pages) > 1:
+        document = _document(sheet_html(pieces, frame, page_count=len(document.pages)), fetcher, TEMPLATES_DIR)
+    return _write(document, fetcher, pdfa, attachments)
 
 
 def quiet_weasyprint() -> None:

@@ -1,0 +1,407 @@
+"""One loop sheet as HTML: a pure function of pieces made upstream.
+
+:func:`sheet_html` takes what the other stages made for one loop (the loop diagram SVG
+from ``loopdocs.draw``, the range chart SVG of each split group, the calibration tables
+in the DESIGN §5 ``calibrate`` JSON shape, the loop's findings) and the sheet's frame
+(title block, sheet settings, sheet n of m) and returns the HTML that ``loopdocs.render.pdf``
+turns into a PDF page. Nothing here computes engineering values.
+
+Safety: the templates are rendered with jinja2 autoescaping, so every text that came from
+the spreadsheet or the config is escaped. The only markup passed through unescaped is the
+SVG made by our own draw code, and it is first checked by :func:`trusted_svg` (well-formed
+XML, no script, no foreign objects, no links or references outside the document).
+
+Drafting practice (DESIGN §6; ISO 3098-1 lettering and ISO 128-2 line widths, from
+memory): capital letters at least 2.5 mm high (1.8 mm in dense tables), line widths
+0.25, 0.35, 0.5 and 0.7 mm. The CSS sizes are font sizes; DejaVu Sans has a capital
+height of 1493/2048 = 0.729 em (its ``H`` glyph), so 3.5 mm type gives 2.55 mm capitals
+and 2.5 mm type gives 1.82 mm capitals (``tests/test_render.py`` measures this on the PDF).
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from functools import lru_cache
+from pathlib import Path
+from typing import Any
+
+from loopdocs import __version__
+from loopdocs.calc.calibration import CalibrationTable
+from loopdocs.draw.text import CAP_HEIGHT_EM  # DejaVu Sans, the sheet's typeface
+from loopdocs.findings import Finding, Severity
+from loopdocs.model.records import Loop, Tag, TitleBlock
+from loopdocs.render.caltables import display_tables, fmt_number, packing_order
+from loopdocs.render.settings import Revision, SheetSettings
+from loopdocs.report import CAUTION
+
+TEMPLATES_DIR = Path(__file__).resolve().parent.parent / "templates"
+
+
+
+@dataclass(frozen=True)
+class SheetPieces:
+    """Everything drawn or computed for one loop, ready to be laid out."""
+
+    loop: Loop
+    tags: Sequence[Tag]
+    diagram_svg: str | None = None
+    """The loop diagram, SVG made by ``loopdocs.draw``."""
+    range_charts_svg: Sequence[str] = ()
+    """One range chart per split group of the loop (SVG made by ``loopdocs.draw``)."""
+    calibrations: Sequence[CalibrationTable] = ()
+    """Calibration tables of the loop's instruments and final elements (``loopdocs.calibration``)."""
+    findings: Sequence[Finding] = ()
+
+
+@dataclass(frozen=True)
+class SheetFrame:
+    """What every sheet of the package shares, and this sheet's place in it."""
+
+    title_block: TitleBlock
+    settings: SheetSettings
+    sheet_no: int
+    sheet_count: int
+    extra_notes: Sequence[str] = field(default_factory=tuple)
+
+
+def drawing_number(pattern: str, loop_id: str) -> str:
+    """The drawing number of a loop: ``{loop}`` in the pattern replaced by the loop id.
+
+    Plain replacement, not ``str.format``: other braces in the pattern stay as written.
+
+    >>> drawing_number("KCB-LS-{loop}", "T-3105")
+    'KCB-LS-T-3105'
+    """
+    return pattern.replace("{loop}", loop_id)
+
+
+def revisions(title_block: TitleBlock, settings: SheetSettings) -> list[Revision]:
+    """The revision table: the configured rows, or one row made from the title block."""
+    if settings.revisions:
+        return list(settings.revisions)
+    return [Revision(rev=title_block.revision, date=title_block.date, by=title_block.drawn,
+                     checked=title_block.checked, approved=title_block.approved)]
+
+
+def current_revision(title_block: TitleBlock, settings: SheetSettings) -> str:
+    return revisions(title_block, settings)[-1].rev
+
+
+def document_author(title_block: TitleBlock, settings: SheetSettings) -> str:
+    """PDF author: ``[sheet] author``, else the title block's ``drawn``, else ``loopdocs``."""
+    return settings.author or title_block.drawn or "loopdocs"
+
+
+# --- SVG from our own draw code ----------------------------------------------------------
+
+class UntrustedSVG(ValueError):
+    """SVG handed to the sheet holds something our draw code never makes."""
+
+
+_FORBIDDEN_ELEMENTS = {"script", "foreignObject", "iframe", "object", "embed", "image", "a", "style"}
+_SVG_NS = "http://www.w3.org/2000/svg"
+
+
+def trusted_svg(svg: str) -> str:
+    """Check that ``svg`` is a well-formed SVG fragment fit to embed inline, and return it
+    without an XML declaration.
+
+    Refused: DTDs and entities (``defusedxml``), script, style (it would restyle the whole
+    sheet), foreignObject, images and links, event-handler attributes (``on...``), and any
+    ``href`` or ``url(...)`` that points outside the SVG (only ``#fragment`` is allowed, so
+    ``<use href="#symbol">`` is fine).
+
+    >>> trusted_svg('<svg xmlns="http://www.w3.org/2000/svg"><text>&lt;b&gt;</text></svg>')[:4]
+    '<svg'
+    >>> trusted_svg('<svg xmlns="http://www.w3.org/2000/svg"><script>x</script></svg>')
+    Traceback (most recent call last):
+    ...
+    loopdocs.render.sheet.UntrustedSVG: SVG holds a <script> element
+    """
+    import defusedxml.ElementTree as DET
+    from defusedxml import DefusedXmlException
+
+    try:
+        root = DET.fromstring(svg)
+    except (DefusedXmlException, Exception) as exc:  # ParseError or a refused DTD/entity
+        raise UntrustedSVG(f"SVG is not well-formed or declares entities ({exc})") from None
+    if _local(root.tag) != "svg":
+        raise UntrustedSVG(f"SVG root is <{_local(root.tag)}>, not <svg>")
+    for element in root.iter():
+        name = _local(element.tag)
+        if name in _FORBIDDEN_ELEMENTS:
+            raise UntrustedSVG(f"SVG holds a <{name}> element")
+        for attribute, value in element.attrib.items():
+            attr = _local(attribute)
+            if attr.lower().startswith("on"):
+                raise UntrustedSVG(f"SVG attribute {attr} is an event handler")
+            if attr == "href" and not value.startswith("#"):
+                raise UntrustedSVG(f"SVG link {value[:40]!r} points outside the drawing")
+            for target in re.findall(r"url\(\s*['\"]?([^)'\"]*)", value):
+                if not target.startswith("#"):
+                    raise UntrustedSVG(f"SVG attribute {attr} refers outside the drawing")
+    return re.sub(r"^\s*<\?xml[^>]*\?>\s*", "", svg)
+
+
+def _local(tag: str) -> str:
+    return tag.rsplit("}", 1)[-1] if isinstance(tag, str) else ""
+
+
+# --- formatting --------------------------------------------------------------------------
+
+def _range_text(tag: Tag) -> str:
+    if not tag.has_range:
+        return ""
+    return f"{fmt_number(tag.range_low)} to {fmt_number(tag.range_high)} {tag.units or ''}".strip()
+
+
+def _tag_row(tag: Tag) -> dict[str, str]:
+    action = " ".join(v.value for v in (tag.air_action, tag.fail_position) if v is not None)
+    if tag.control_action is not None:
+        action = f"{tag.control_action.value} acting"
+    return {
+        "tag": tag.tag,
+        "kind": tag.kind.value,
+        "service": tag.service or "",
+        "location": tag.location.value if tag.location else "",
+        "signal": tag.signal.value if tag.signal else "",
+        "range": _range_text(tag),
+        "action": action,
+        "io": tag.io_address or "",
+        "pid": tag.pid or "",
+    }
+
+
+def tag_notes(tags: Sequence[Tag]) -> list[str]:
+    """The Notes cells of the loop's tags, each text once with the tags that carry it.
+
+    >>> from types import SimpleNamespace as T
+    >>> tag_notes([T(tag="TT-1A", notes="rail mounted"), T(tag="TT-1B", notes="rail mounted"), T(tag="TE-1", notes=None)])
+    ['TT-1A, TT-1B: rail mounted']
+    """
+    by_text: dict[str, list[str]] = {}
+    for tag in tags:
+        if tag.notes:
+            by_text.setdefault(tag.notes.strip(), []).append(tag.tag)
+    return [f"{', '.join(names)}: {text}" for text, names in by_text.items()]
+
+
+def _finding_view(finding: Finding) -> dict[str, Any]:
+    return {
+        "severity": finding.severity.value,
+        "rule": finding.rule,
+        "tags": ", ".join(finding.tags),
+        "message": finding.message,
+        "accepted_by": finding.accepted.by if finding.accepted else "",
+        "accepted_reason": finding.accepted.reason if finding.accepted else "",
+    }
+
+
+def has_blocking_error(findings: Sequence[Finding]) -> bool:
+    """An error finding nobody accepted: the sheet is not for construction."""
+    return any(f.counts_as_error for f in findings)
+
+
+# --- templates ---------------------------------------------------------------------------
+
+@lru_cache(maxsize=1)
+def environment():
+    """The jinja2 environment of the sheet templates (autoescape on for every template)."""
+    import jinja2
+
+    return jinja2.Environment(
+        loader=jinja2.FileSystemLoader(str(TEMPLATES_DIR)),
+        autoescape=True,
+        undefined=jinja2.StrictUndefined,
+        trim_blocks=True,
+        lstrip_blocks=True,
+    )
+
+
+FRAME_INSET_MM = 0.7 + 3.0
+"""Frame line (0.7 mm) and the padding inside it (``sheet.css`` ``@page``)."""
+SIDE_GAP_MM = 4.0
+BODY_TEXT_MM = 3.5
+"""Body font size (2.55 mm capitals); notes and findings are set in it."""
+BODY_LINE_MM = BODY_TEXT_MM * 1.2
+
+
+STRIP_MM = 44.0
+"""Height of the strip that holds caution, revisions and title block on A4 (below the frame)."""
+HEADER_MM = 13.0
+"""Loop id line at the top of the sheet, with its rule and spacing."""
+
+
+def uses_strip(settings: SheetSettings) -> bool:
+    """A4 is too narrow for a side column beside a loop diagram: it gets a bottom strip."""
+    return settings.paper.name == "A4"
+
+
+def side_width_mm(settings: SheetSettings) -> float:
+    """Width of the side column (title block, revisions, caution, notes); 0 on A4."""
+    return 0.0 if uses_strip(settings) else 100.0
+
+
+def content_box_mm(settings: SheetSettings) -> tuple[float, float]:
+    """Width and height available to the loop diagram (inside the frame, beside the side
+    column or above the strip, below the loop id line)."""
+    paper = settings.paper
+    width = paper.width_mm - paper.binding_margin_mm - paper.margin_mm - 2 * FRAME_INSET_MM
+    height = paper.height_mm - 2 * paper.margin_mm - 2 * FRAME_INSET_MM - HEADER_MM
+    if uses_strip(settings):
+        height -= STRIP_MM + 4.0  # and the diagram's own margin below it
+    else:
+        width -= side_width_mm(settings) + SIDE_GAP_MM
+    return width, height
+
+
+_SVG_SIZE = re.compile(r'(<svg\b[^>]*?\bwidth=")([0-9.]+)mm("[^>]*?\bheight=")([0-9.]+)mm(")')
+
+
+def svg_size_mm(svg: str) -> tuple[float, float]:
+    """Width and height of an SVG drawn in mm (0, 0 when not stated in mm)."""
+    match = _SVG_SIZE.search(svg)
+    return (float(match.group(2)), float(match.group(4))) if match else (0.0, 0.0)
+
+
+def fit_svg(svg: str, max_width_mm: float, max_height_mm: float) -> tuple[str, float]:
+    """Scale an SVG drawn in mm (``width="Wmm" height="Hmm"`` with a viewBox) down to fit
+    the box, never up; returns the SVG and the scale (1.0 when it fits).
+
+    >>> fit_svg('<svg width="200mm" height="50mm" viewBox="0 0 200 50"/>', 100, 100)
+    ('<svg width="100mm" height="25mm" viewBox="0 0 200 50"/>', 0.5)
+    """
+    match = _SVG_SIZE.search(svg)
+    if match is None:
+        return svg, 1.0
+    width, height = float(match.group(2)), float(match.group(4))
+    scale = min(1.0, max_width_mm / width, max_height_mm / height)
+    if scale >= 1.0:
+        return svg, 1.0
+    def mm(value: float) -> str:
+        return f"{value:.3f}".rstrip("0").rstrip(".")
+
+    scaled = f"{match.group(1)}{mm(width * scale)}mm{match.group(3)}{mm(height * scale)}mm{match.group(5)}"
+    return svg[:match.start()] + scaled + svg[match.end():], round(scale, 3)
+
+
+def page_css(settings: SheetSettings, page_count: int = 1, sheet_label: str = "") -> str:
+    """The ``@page`` rule for the configured paper (landscape, binding margin left), the
+    side column width, and for a sheet that runs over more than one page a page number
+    under the frame."""
+    paper = settings.paper
+    side = side_width_mm(settings)
+    bottom = paper.margin_mm + (STRIP_MM if uses_strip(settings) else 0.0)
+    css = (
+        f"@page {{ size: {paper.width_mm}mm {paper.height_mm}mm; "
+        f"margin: {paper.margin_mm}mm {paper.margin_mm}mm {bottom}mm {paper.binding_margin_mm}mm; }}\n"
+    )
+    if uses_strip(settings):
+        strip_width = paper.width_mm - paper.binding_margin_mm - paper.margin_mm
+        css += ("@page { @bottom-center { content: element(strip); vertical-align: top; } }\n"
+                f".side.strip {{ height: {STRIP_MM}mm; width: {strip_width:.1f}mm; }}\n"
+                f".side.strip table.title-block {{ width: {strip_width - 56 - 72 - 5:.1f}mm; }}\n")
+    else:
+        css += f".side {{ width: {side}mm; }}\nmain {{ margin-right: {side + SIDE_GAP_MM}mm; }}\n"
+    if page_count > 1:
+        label = re.sub(r'[\\"<>\n\r{}]', "", sheet_label)  # inside a CSS string in <style>
+        css += (f'@page {{ @bottom-right {{ content: "{label}, page " counter(page) " of " counter(pages); '
+                f"font-size: {BODY_TEXT_MM}mm; vertical-align: top; padding-top: 1mm; }} }}\n")
+    return css
+
+
+def _lines(text: str, width_mm: float, size_mm: float = BODY_TEXT_MM) -> int:
+    from loopdocs.draw.text import wrap_text
+
+    return max(1, len(wrap_text(text, width_mm, size_mm)))
+
+
+def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool) -> float:
+    """Height left in the side column for notes and findings, once the status box, the
+    caution, the revision table and the title block are in (estimated from their text
+    with the font's widths; a few mm to spare)."""
+    paper = settings.paper
+    width = side_width_mm(settings)
+    inner = paper.height_mm - 2 * paper.margin_mm - 2 * FRAME_INSET_MM
+    caution = 3.0 + 2 * 1.5 + BODY_LINE_MM * (1 + _lines(CAUTION, width - 4.7))
+    revisions_mm = 5.0 + 3.5 * (1 + revision_rows)
+    title_block = 66.0 if paper.name != "A4" else 62.0
+    status_mm = 34.0 if status else 0.0
+    return inner - caution - revisions_mm - title_block - status_mm - 10.0
+
+
+def side_text_mm(texts: Sequence[str], headings: int, width_mm: float) -> float:
+    """Height of notes and findings set in the side column (body type, one paragraph each)."""
+    return headings * 7.0 + sum(BODY_LINE_MM * _lines(t, width_mm - 7.0) + 0.8 for t in texts)
+
+
+def sheet_html(pieces: SheetPieces, frame: SheetFrame, page_count: int = 1) -> str:
+    """The HTML of one loop sheet (pure: same pieces and frame, same text).
+
+    ``page_count`` > 1 (a sheet whose content runs over) adds the page number under the
+    frame; :func:`loopdocs.render.pdf.sheet_pdf` renders again with it when needed.
+    """
+    from markupsafe import Markup
+
+    tb, settings = frame.title_block, frame.settings
+    findings = list(pieces.findings)
+    open_findings = [f for f in findings if f.accepted is None]
+    open_findings.sort(key=lambda f: f.severity.rank)
+    accepted = [f for f in findings if f.accepted is not None]
+    blocked = has_blocking_error(findings)
+    release_reason = settings.release_reason(pieces.loop.id) if blocked else None
+    calibrations = display_tables(pieces.calibrations)
+    notes = [*settings.notes, *frame.extra_notes]
+    if calibrations:
+        notes.append("Calibration: read every point rising, then falling; the values are those expected, "
+                     "within the tolerance stated with each table.")
+    notes += tag_notes(pieces.tags)
+    finding_views = [_finding_view(f) for f in open_findings]
+    accepted_views = [_finding_view(f) for f in accepted]
+    not_for_construction = blocked and release_reason is None
+    side_texts = notes + [f"{v['severity']} {v['rule']} ({v['tags']}): {v['message']}" for v in finding_views]
+    side_texts += [f"{v['severity']}, accepted {v['rule']} ({v['tags']}): {v['message']} Accepted by "
+                   f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
+    headings = 2 + bool(notes) + bool(accepted_views)
+    tag_rows_mm = 3.6 * (1 + len(pieces.tags))
+    strip = uses_strip(settings)
+    room = 0.0 if strip else side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None)
+    diagram, scale, diagram_mm = None, 1.0, 0.0
+    box_w, box_h = content_box_mm(settings)
+    if pieces.diagram_svg:
+        diagram, scale = fit_svg(trusted_svg(pieces.diagram_svg), box_w, box_h)
+        diagram_mm = svg_size_mm(diagram)[1] + 3.0
+    calibrations = packing_order(calibrations, box_h - diagram_mm)
+    sheet_label = f"{drawing_number(tb.drawing_number, pieces.loop.id)} sheet {frame.sheet_no} of {frame.sheet_count}"
+    context = {
+        "paper": settings.paper,
+        "page_css": Markup(page_css(settings, page_count, sheet_label)),  # ours; the label is cleaned
+        "strip": strip,
+        "side_notes": not strip and side_text_mm(side_texts or ["-"], headings, side_width_mm(settings)) + tag_rows_mm <= room,
+        "reduced_pct": round(scale * 100) if scale < 1.0 else None,
+        "loop": pieces.loop,
+        "service": pieces.loop.service or "",
+        "tags": [_tag_row(t) for t in pieces.tags],
+        "diagram": Markup(diagram) if diagram else None,
+        "charts": [Markup(trusted_svg(svg)) for svg in pieces.range_charts_svg],
+        "calibrations": calibrations,
+        "open_findings": finding_views,
+        "accepted": accepted_views,
+        "counts": {s.value: sum(1 for f in open_findings if f.severity is s) for s in Severity},
+        "not_for_construction": not_for_construction,
+        "release_reason": release_reason,
+        "notes": notes,
+        "cautions": CAUTION,
+        "tb": tb,
+        "drawing_number": drawing_number(tb.drawing_number, pieces.loop.id),
+        "revisions": revisions(tb, settings),
+        "revision": current_revision(tb, settings),
+        "sheet_no": frame.sheet_no,
+        "sheet_count": frame.sheet_count,
+        "version": __version__,
+        "author": document_author(tb, settings),
+        "keywords": ", ".join(["loop sheet", pieces.loop.id, *(t.tag for t in pieces.tags)]),
+    }
+    return environment().get_template("sheet.html").render(context)
