@@ -1,0 +1,405 @@
+"""``loopdocs build``: loop sheets rendered in parallel, cached, never half-written.
+
+Steps (:func:`build`):
+
+1. read and check the project (``loopdocs.pipeline.check_project``), validate ``[sheet]``;
+2. give every loop its sheet number, output file name (``loopdocs.names``) and cache key
+   (``loopdocs.render.cache``); loops whose output is fresh are reused;
+3. render the others in a ``ProcessPoolExecutor`` (``workers`` processes, default
+   ``os.cpu_count()``); each worker holds the project once (pool initializer), draws the
+   loop's diagram and range charts, takes its calibration tables, renders the HTML and
+   writes the PDF with ``atomic_write`` (temporary file, then rename);
+4. unless a selection was asked for, render the front matter (cover sheet, drawing list)
+   and join everything into the package, again through a temporary file.
+
+Output folder::
+
+    OUT/loop-sheets.pdf            the package
+    OUT/loops/<loop>.pdf           one PDF per loop
+    OUT/.loopdocs-cache/           manifest (keys), cached front matter
+
+A worker that dies mid-write leaves only its temporary ``.part`` file, which the build
+removes; files in their final names are always complete.
+
+Test hook: when the environment variable ``LOOPDOCS_TEST_CRASH_LOOP`` names a loop, the
+worker rendering it writes half of the PDF to the temporary file and ends its process
+with ``os._exit`` (an interrupted build, for ``tests/test_build.py``).
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import time
+from collections.abc import Callable, Sequence
+from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
+from concurrent.futures.process import BrokenProcessPool
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from loopdocs.errors import InputError
+from loopdocs.findings import Finding, FindingCounts
+from loopdocs.model.records import Project
+from loopdocs.render.cache import CACHE_DIR_NAME, Manifest, digest_json, environment_digest, loop_key
+from loopdocs.render.files import remove_partials, shareable
+from loopdocs.render.settings import SheetSettings, sheet_settings
+from loopdocs.render.sheet import TEMPLATES_DIR, current_revision, drawing_number, has_blocking_error
+from loopdocs.starter import atomic_write
+
+PACKAGE_NAME = "loop-sheets.pdf"
+LOOPS_DIR = "loops"
+FRONT_CACHE = "front.pdf"
+CRASH_ENV = "LOOPDOCS_TEST_CRASH_LOOP"
+SOURCE_DIR = Path(__file__).resolve().parent.parent
+
+
+class BuildError(Exception):
+    """The build could not complete (a worker died, a sheet failed to render)."""
+
+
+@dataclass
+class BuildResult:
+    out_dir: Path
+    rendered: list[str] = field(default_factory=list)
+    """Loops whose sheet was rendered in this build."""
+    reused: list[str] = field(default_factory=list)
+    """Loops whose sheet was fresh in the cache."""
+    removed: list[str] = field(default_factory=list)
+    """Sheets of loops no longer in the index, deleted."""
+    loop_files: dict[str, Path] = field(default_factory=dict)
+    package: Path | None = None
+    package_pages: int | None = None
+    """Pages of the package when it was (re)written in this build."""
+    front_rendered: bool = False
+    findings: list[Finding] = field(default_factory=list)
+    seconds: float = 0.0
+
+    @property
+    def has_errors(self) -> bool:
+        return any(f.counts_as_error for f in self.findings)
+
+
+# --- what a sheet is made from --------------------------------------------------------
+
+def loop_findings(findings: Sequence[Finding], project: Project) -> dict[str, list[Finding]]:
+    """Findings by loop id: a finding's own loop, else the loops of the tags it names."""
+    by_loop: dict[str, list[Finding]] = {loop_id: [] for loop_id in project.loops}
+    for finding in findings:
+        loops = {finding.loop} if finding.loop in by_loop else {
+            project.tags[t].loop for t in finding.tags if t in project.tags}
+        for loop_id in loops:
+            by_loop[loop_id].append(finding)
+    return by_loop
+
+
+def _related_tags(project: Project, loop_id: str) -> list[str]:
+    """The loop's tags, plus tags outside it that drive them or that they drive."""
+    own = list(project.loops[loop_id].tags)
+    names = set(own)
+    related = {t.driven_by.upper() for name in own if (t := project.tags[name]).driven_by}
+    related |= {t.tag for t in project.tags.values() if t.driven_by and t.driven_by.upper() in names}
+    return own + sorted(related - names)
+
+
+def tag_record(project: Project, name: str) -> dict[str, Any]:
+    """A tag as JSON for the cache key and the PDF/A attachment (no spreadsheet row)."""
+    tag = project.tags.get(name)
+    if tag is None:
+        return {"tag": name, "missing": True}
+    data = tag.model_dump(mode="json", exclude={"row"})
+    return data
+
+
+def finding_record(finding: Finding) -> dict[str, Any]:
+    data = finding.as_json()
+    data.pop("location", None)
+    return data
+
+
+def loop_record(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any] = ()) -> dict[str, Any]:
+    """What one sheet shows, as JSON: the loop, its (and related) tags, its findings and
+    split groups. Hashed for the cache; attached to the PDF/A sheet."""
+    loop = project.loops[loop_id]
+    return {
+        "loop": loop.model_dump(mode="json"),
+        "tags": [tag_record(project, name) for name in _related_tags(project, loop_id)],
+        "findings": [finding_record(f) for f in findings],
+        "splits": [group.as_json() for group in splits],
+    }
+
+
+def frame_record(project: Project, settings: SheetSettings, loop_id: str, sheet_no: int, sheet_count: int, pdfa: bool) -> dict[str, Any]:
+    sheet = settings.model_dump(mode="json", exclude={"release_with_errors"})
+    return {
+        "title_block": project.config.title_block.model_dump(mode="json"),
+        "sheet": sheet,
+        "release": settings.release_reason(loop_id),
+        "sheet_no": sheet_no,
+        "sheet_count": sheet_count,
+        "pdfa": pdfa,
+    }
+
+
+@dataclass(frozen=True)
+class Job:
+    loop_id: str
+    sheet_no: int
+    sheet_count: int
+    path: Path
+    key: str
+    findings: tuple[Finding, ...]
+
+
+# --- worker side -----------------------------------------------------------------------
+
+_STATE: dict[str, Any] = {}
+
+
+def _init_worker(checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool) -> None:
+    """Pool initializer: keep the checked project for every job of this process."""
+    from loopdocs.render.pdf import quiet_weasyprint
+
+    quiet_weasyprint()
+    _STATE.clear()
+    _STATE.update(checked=checked, settings=settings, project_dir=project_dir, pdfa=pdfa)
+
+
+def _splits(checked: Any) -> list[Any]:
+    return list(getattr(checked, "splits", None) or [])
+
+
+def _pieces(job: Job):
+    """Draw and gather everything the sheet of ``job.loop_id`` shows."""
+    from loopdocs.render.pieces import loop_pieces
+
+    checked = _STATE["checked"]
+    return loop_pieces(checked.project, job.loop_id, job.findings, _splits(checked), _STATE)
+
+
+def render_job(job: Job) -> tuple[str, float]:
+    """Render one sheet to ``job.path`` (worker side). Returns (loop id, seconds)."""
+    from loopdocs.render.pdf import JsonAttachment, sheet_pdf
+    from loopdocs.render.sheet import SheetFrame
+
+    started = time.perf_counter()
+    checked, settings = _STATE["checked"], _STATE["settings"]
+    project: Project = checked.project
+    pieces, record = _pieces(job)
+    frame = SheetFrame(project.config.title_block, settings, job.sheet_no, job.sheet_count)
+    attachments = []
+    if _STATE["pdfa"]:
+        data = json.dumps(record, indent=1, ensure_ascii=False, default=str).encode("utf-8")
+        attachments.append(JsonAttachment(f"{job.path.stem}.json", data, f"Records of loop {job.loop_id} (loopdocs)"))
+    pdf = sheet_pdf(pieces, frame, allowed_dirs=[_STATE["project_dir"]], pdfa=_STATE["pdfa"], attachments=attachments)
+
+    def write(tmp: Path) -> None:
+        if os.environ.get(CRASH_ENV) == job.loop_id:
+            tmp.write_bytes(pdf[: len(pdf) // 2])
+            os._exit(70)  # test hook: die mid-write, as a killed worker would
+        tmp.write_bytes(pdf)
+        shareable(tmp)
+
+    atomic_write(job.path, write)
+    return job.loop_id, time.perf_counter() - started
+
+
+# --- main side ---------------------------------------------------------------------------
+
+def _default_workers() -> int:
+    return os.cpu_count() or 1
+
+
+def build(
+    path: Path,
+    out_dir: Path,
+    *,
+    loops: Sequence[str] = (),
+    workers: int | None = None,
+    pdfa: bool = False,
+    force: bool = False,
+    progress: Callable[[int, int, str], None] | None = None,
+) -> BuildResult:
+    """Build the loop sheets of the project at ``path`` into ``out_dir``.
+
+    ``loops`` selects loop ids (case-insensitive; the package is then not rewritten);
+    ``force`` ignores the cache; ``progress(done, total, loop_id)`` is called as sheets
+    finish. Raises ``InputError`` for unreadable input or an unknown loop id, and
+    ``BuildError`` when rendering could not complete.
+    """
+    from loopdocs.config import locate
+    from loopdocs.draw.symbols import symbols_dir
+    from loopdocs.names import unique_filenames
+    from loopdocs.pipeline import check_project
+
+    started = time.perf_counter()
+    out_dir = Path(out_dir)
+    paths = locate(Path(path))
+    checked = check_project(Path(path))
+    project = checked.project
+    settings = sheet_settings(project.config.sheet, paths.config_file)
+    result = BuildResult(out_dir=out_dir, findings=list(checked.findings))
+
+    all_loops = list(project.loops)
+    if loops:
+        by_upper = {loop_id.upper(): loop_id for loop_id in all_loops}
+        unknown = [name for name in loops if name.upper() not in by_upper]
+        if unknown:
+            raise InputError(f"{paths.index}: no loop {', '.join(unknown)} in the index (loop ids look like {all_loops[0] if all_loops else 'T-101'})")
+        selected = list(dict.fromkeys(by_upper[name.upper()] for name in loops))
+    else:
+        selected = all_loops
+
+    loops_dir = out_dir / LOOPS_DIR
+    cache_dir = out_dir / CACHE_DIR_NAME
+    for folder in (out_dir, loops_dir, cache_dir):
+        folder.mkdir(parents=True, exist_ok=True)
+        remove_partials(folder)
+
+    names = unique_filenames(all_loops)
+    findings_by_loop = loop_findings(checked.findings, project)
+    splits = _splits(checked)
+    splits_by_loop: dict[str, list[Any]] = {}
+    for group in splits:
+        splits_by_loop.setdefault(_group_loop(group, project), []).append(group)
+    symbols = symbols_dir()
+    environment = environment_digest(TEMPLATES_DIR, symbols, SOURCE_DIR)
+    manifest = Manifest(out_dir)
+    count = len(all_loops)
+
+    jobs: list[Job] = []
+    keys: dict[str, str] = {}
+    for number, loop_id in enumerate(all_loops, start=1):
+        found = findings_by_loop[loop_id]
+        record = loop_record(project, loop_id, found, splits_by_loop.get(loop_id, ()))
+        key = loop_key(environment, record, frame_record(project, settings, loop_id, number, count, pdfa))
+        keys[loop_id] = key
+        target = loops_dir / f"{names[loop_id]}.pdf"
+        result.loop_files[loop_id] = target
+        if loop_id not in selected:
+            continue
+        if not force and manifest.fresh(loop_id, key) and manifest.entries[loop_id].file == str(target.relative_to(out_dir)):
+            result.reused.append(loop_id)
+        else:
+            jobs.append(Job(loop_id, number, count, target, key, tuple(found)))
+
+    if not loops:  # sheets of loops that left the index
+        for gone in sorted(set(manifest.entries) - set(all_loops)):
+            entry = manifest.forget(gone)
+            if entry is not None:
+                (out_dir / entry.file).unlink(missing_ok=True)
+                result.removed.append(gone)
+
+    try:
+        _render(jobs, checked, settings, paths.folder, pdfa, workers or _default_workers(), manifest, result, progress)
+    finally:
+        remove_partials(loops_dir)
+        manifest.save()
+
+    if not loops:
+        _package(project, settings, checked.findings, findings_by_loop, all_loops, keys, result, manifest, pdfa, paths.folder)
+        manifest.save()
+    result.seconds = time.perf_counter() - started
+    return result
+
+
+def _group_loop(group: Any, project: Project) -> str:
+    loop = getattr(group, "loop", None)
+    if loop in project.loops:
+        return loop
+    controller = project.tags.get(getattr(group, "controller", ""))
+    return controller.loop if controller else str(loop)
+
+
+def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool,
+            workers: int, manifest: Manifest, result: BuildResult,
+            progress: Callable[[int, int, str], None] | None) -> None:
+    """Render ``jobs``, recording each finished sheet in the manifest as it lands."""
+    total = len(jobs)
+    done = 0
+
+    def finished(job: Job) -> None:
+        nonlocal done
+        manifest.record(job.loop_id, job.key, job.path)
+        result.rendered.append(job.loop_id)
+        done += 1
+        if progress:
+            progress(done, total, job.loop_id)
+        if done % 100 == 0:
+            manifest.save()
+
+    if not jobs:
+        return
+    if workers <= 1 or total == 1:
+        _init_worker(checked, settings, project_dir, pdfa)
+        for job in jobs:
+            render_job(job)
+            finished(job)
+        return
+    import multiprocessing
+
+    context = multiprocessing.get_context("fork") if "fork" in multiprocessing.get_all_start_methods() else None
+    with ProcessPoolExecutor(max_workers=min(workers, total), mp_context=context,
+                             initializer=_init_worker, initargs=(checked, settings, project_dir, pdfa)) as pool:
+        pending: dict[Future, Job] = {pool.submit(render_job, job): job for job in jobs}
+        try:
+            while pending:
+                complete, _ = wait(pending, return_when=FIRST_COMPLETED)
+                for future in complete:
+                    job = pending.pop(future)
+                    try:
+                        future.result()
+                    except BrokenProcessPool:
+                        raise BuildError(f"a rendering process died while building loop {job.loop_id}; "
+                                         f"{len(result.rendered)} sheet(s) finished and kept, run the build again") from None
+                    except Exception as exc:
+                        raise BuildError(f"loop {job.loop_id}: the sheet could not be rendered ({type(exc).__name__}: {exc})") from exc
+                    finished(job)
+        except BaseException:
+            for future in pending:
+                future.cancel()
+            pool.shutdown(wait=True, cancel_futures=True)
+            raise
+
+
+def _package(project: Project, settings: SheetSettings, findings: Sequence[Finding],
+             findings_by_loop: dict[str, list[Finding]], all_loops: list[str], keys: dict[str, str],
+             result: BuildResult, manifest: Manifest, pdfa: bool, project_dir: Path) -> None:
+    """Front matter (cached by content) and the joined package (rejoined when any part changed)."""
+    from loopdocs.render.package import ListRow, front_html, write_package
+    from loopdocs.render.pdf import html_to_pdf
+
+    tb = project.config.title_block
+    revision = current_revision(tb, settings)
+    rows = []
+    for number, loop_id in enumerate(all_loops, start=1):
+        blocked = has_blocking_error(findings_by_loop[loop_id])
+        released = blocked and settings.release_reason(loop_id) is not None
+        rows.append(ListRow(number, drawing_number(tb.drawing_number, loop_id), loop_id,
+                            project.loops[loop_id].service or "", revision, blocked and not released, released))
+    counts = FindingCounts.of(findings)
+    front_key = digest_json({
+        "rows": [vars(r) for r in rows], "counts": counts.as_json(), "pdfa": pdfa,
+        "title_block": tb.model_dump(mode="json"), "sheet": settings.model_dump(mode="json"),
+        "environment": environment_digest(TEMPLATES_DIR, None, SOURCE_DIR),
+    })
+    front_path = result.out_dir / CACHE_DIR_NAME / FRONT_CACHE
+    if not manifest.artefact_fresh("front", front_key):
+        html = front_html(tb, settings, rows, open_errors=counts.error, open_warnings=counts.warning, accepted=counts.accepted)
+        pdf = html_to_pdf(html, allowed_dirs=[project_dir], pdfa=pdfa)
+        atomic_write(front_path, lambda tmp: (tmp.write_bytes(pdf), shareable(tmp)))
+        manifest.record_artefact("front", front_key, front_path)
+        result.front_rendered = True
+
+    package_path = result.out_dir / PACKAGE_NAME
+    package_key = digest_json({"front": front_key, "loops": [keys[l] for l in all_loops], "pdfa": pdfa})
+    result.package = package_path
+    if manifest.artefact_fresh("package", package_key) and not result.rendered and not result.front_rendered:
+        return
+    sheets = [(result.loop_files[l], _bookmark(l, project.loops[l].service)) for l in all_loops]
+    result.package_pages = write_package(package_path, front_path, sheets, title_block=tb, settings=settings, pdfa=pdfa)
+    manifest.record_artefact("package", package_key, package_path)
+
+
+def _bookmark(loop_id: str, service: str | None) -> str:
+    return f"{loop_id}: {service}" if service else loop_id

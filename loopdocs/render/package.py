@@ -1,0 +1,108 @@
+"""The issue package: cover sheet and drawing list, then the loop sheets in loop order,
+joined into one PDF with a bookmark per loop and the document metadata.
+
+:func:`front_html` is pure (rows in, HTML out); :func:`write_package` joins the front
+matter and the per-loop PDFs with :class:`loopdocs.render.pdfjoin.PdfJoin`, streaming, and
+writes the result with ``atomic_write`` (never a half-written package).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+from loopdocs import __version__
+from loopdocs.model.records import TitleBlock
+from loopdocs.render.settings import SheetSettings
+from loopdocs.render.sheet import current_revision, document_author, environment, page_css, revisions
+from loopdocs.report import CAUTION
+from loopdocs.starter import atomic_write
+
+
+@dataclass(frozen=True)
+class ListRow:
+    """One line of the drawing list."""
+
+    sheet_no: int
+    drawing_number: str
+    loop: str
+    service: str
+    revision: str
+    not_for_construction: bool = False
+    released_with_errors: bool = False
+
+
+def document_title(title_block: TitleBlock) -> str:
+    return f"{title_block.project}: loop sheets"
+
+
+def document_subject(title_block: TitleBlock, revision: str, sheet_count: int) -> str:
+    unit = f", {title_block.unit}" if title_block.unit else ""
+    return f"Instrument loop sheets{unit}, revision {revision}, {sheet_count} sheets"
+
+
+def document_keywords(title_block: TitleBlock) -> list[str]:
+    words = ["loop sheets", "instrumentation", "calibration", "split range"]
+    return words + [w for w in (title_block.client, title_block.unit) if w]
+
+
+def front_html(title_block: TitleBlock, settings: SheetSettings, rows: Sequence[ListRow], *,
+               open_errors: int = 0, open_warnings: int = 0, accepted: int = 0) -> str:
+    """Cover sheet and drawing list of the package (pure)."""
+    from markupsafe import Markup
+
+    revision = current_revision(title_block, settings)
+    context = {
+        "paper": settings.paper,
+        "page_css": Markup(page_css(settings)),
+        "tb": title_block,
+        "title": document_title(title_block),
+        "author": document_author(title_block, settings),
+        "subject": document_subject(title_block, revision, len(rows)),
+        "keywords": ", ".join(document_keywords(title_block)),
+        "revision": revision,
+        "revisions": revisions(title_block, settings),
+        "rows": rows,
+        "sheet_count": len(rows),
+        "not_for_construction": sum(1 for r in rows if r.not_for_construction),
+        "released": sum(1 for r in rows if r.released_with_errors),
+        "open_errors": open_errors,
+        "open_warnings": open_warnings,
+        "accepted": accepted,
+        "cautions": CAUTION,
+        "version": __version__,
+    }
+    return environment().get_template("front.html").render(context)
+
+
+def write_package(path: Path, front_pdf: bytes | Path, sheets: Sequence[tuple[Path, str]], *,
+                  title_block: TitleBlock, settings: SheetSettings, pdfa: bool = False) -> int:
+    """Join the front matter and the sheets (``(pdf path, bookmark title)`` in loop order)
+    into ``path``; returns the page count."""
+    from loopdocs.render.files import shareable
+    from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
+
+    revision = current_revision(title_block, settings)
+    info = DocumentInfo(
+        title=document_title(title_block),
+        author=document_author(title_block, settings),
+        subject=document_subject(title_block, revision, len(sheets)),
+        keywords=document_keywords(title_block),
+        creator=f"loopdocs {__version__}",
+    )
+    pages = 0
+
+    def write(tmp: Path) -> None:
+        nonlocal pages
+        with open(tmp, "wb") as out:
+            join = PdfJoin(out, info, pdfa=pdfa)
+            join.add(front_pdf, bookmark="Cover sheet and drawing list")
+            for sheet_path, title in sheets:
+                join.add(sheet_path, bookmark=title)
+            join.close()
+            pages = join.page_count
+        shareable(tmp)
+
+    atomic_write(Path(path), write)
+    return pages
