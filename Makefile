@@ -14,6 +14,7 @@ $(STAMP): pyproject.toml requirements.lock
 
 demo: $(STAMP)
 	$(VENV)/bin/loopdocs check project_example
+	$(VENV)/bin/loopdocs build project_example --out project_example/out
 
 test: $(STAMP)
 	$(PY) -m pytest -q loopdocs tests

@@ -15,6 +15,7 @@ COMMAND_MODULES = (
     "loopdocs.commands.check",
     "loopdocs.commands.init",
     "loopdocs.commands.draw",
+    "loopdocs.commands.build",
     "loopdocs.commands.calibrate",
     "loopdocs.commands.verify",
 )

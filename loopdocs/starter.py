@@ -37,6 +37,25 @@ unit = ""
 drawing_number = "LS-{loop}"   # {loop} is replaced by the loop id
 revision = "A"
 
+[sheet]
+size = "A3"                    # paper, landscape: "A3" (default), "A4" or "11x17"
+# author = "A. Engineer"       # PDF author; default: drawn above
+# notes = ["All cable numbers to the cable schedule."]   # printed on every loop sheet
+#
+# Revision table of every sheet, oldest first (default: one row from [title_block]):
+# [[sheet.revisions]]
+# rev = "A"
+# date = "2026-12-01"
+# description = "Issued for review"
+# by = "AE"
+# checked = "BC"
+# approved = "CD"
+#
+# A sheet with an unaccepted error finding is marked NOT FOR CONSTRUCTION. To issue it
+# anyway, name the loop and give the reason; the reason is printed on the sheet:
+# [sheet.release_with_errors]
+# "T-101" = "gap is the intended dead band, see memo M-12"
+
 # Findings accepted on purpose by engineering review stay on the sheet as accepted
 # deviations but do not fail the check:
 # [[accept]]

@@ -243,6 +243,19 @@ date = "2026-12-01"
 drawn = "loopdocs"
 checked = ""
 approved = ""
+
+[sheet]
+size = "A3"
+notes = [
+    "Invented plant for the loopdocs demonstration; not a real installation.",
+    "Cable and terminal numbers to the project cable schedule.",
+]
+
+[[sheet.revisions]]
+rev = "A"
+date = "2026-12-01"
+description = "Issued for review"
+by = "loopdocs"
 """
 
 

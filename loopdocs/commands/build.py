@@ -1,0 +1,91 @@
+"""``loopdocs build PATH --out DIR``: the loop sheets and the issue package as PDF."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Optional
+
+import typer
+
+from loopdocs.commands import PathArg, fail_input
+from loopdocs.errors import InputError
+
+EXIT_BUILD_FAILED = 3
+
+
+def build(
+    path: PathArg,
+    out: Annotated[Path, typer.Option("--out", "-o", help="Output folder (created if missing).")],
+    loop: Annotated[Optional[list[str]], typer.Option(
+        "--loop", "-l", help="Build only this loop (repeat for more); the package is then left as it is.")] = None,
+    workers: Annotated[Optional[int], typer.Option(
+        "--workers", "-w", min=1, help="Rendering processes (default: the number of CPU cores).")] = None,
+    pdfa: Annotated[bool, typer.Option(
+        "--pdfa", help="Write PDF/A-3b with each loop's records attached to its sheet as JSON.")] = False,
+    force: Annotated[bool, typer.Option("--force", help="Render every sheet again, ignoring the cache.")] = False,
+) -> None:
+    """Render one loop sheet per loop and join them into one bookmarked package.
+
+    Sheets whose records, findings, config and templates did not change since the last
+    build are reused from the output folder. Exit code 0 when no error was found, 1 when
+    an error was found (those sheets are marked NOT FOR CONSTRUCTION), 2 when the input
+    could not be read, 3 when rendering could not complete.
+    """
+    from rich.console import Console
+
+    from loopdocs.render.build import BuildError, build as run_build
+
+    console = Console(stderr=True, highlight=False)
+    try:
+        with _progress(console) as update:
+            result = run_build(path, out, loops=loop or (), workers=workers, pdfa=pdfa, force=force, progress=update)
+    except InputError as exc:
+        fail_input(exc)
+    except BuildError as exc:
+        typer.echo(f"loopdocs: build failed: {exc}", err=True)
+        raise typer.Exit(EXIT_BUILD_FAILED)
+    except KeyboardInterrupt:
+        typer.echo("loopdocs: build interrupted; finished sheets are kept, run the build again", err=True)
+        raise typer.Exit(130)
+    blocked = sum(1 for f in result.findings if f.counts_as_error)
+    parts = [f"{len(result.rendered)} sheet(s) rendered", f"{len(result.reused)} reused"]
+    if result.removed:
+        parts.append(f"{len(result.removed)} removed")
+    typer.echo(f"{', '.join(parts)} in {result.seconds:.1f} s")
+    if result.package is not None:
+        pages = f" ({result.package_pages} pages)" if result.package_pages else " (unchanged)"
+        typer.echo(f"package: {result.package}{pages}")
+    typer.echo(f"sheets:  {result.out_dir / 'loops'}")
+    if blocked:
+        typer.echo(f"{blocked} unresolved error finding(s): the sheets concerned are marked NOT FOR CONSTRUCTION "
+                   f"(run 'loopdocs check {path}' for the list)")
+    raise typer.Exit(1 if result.has_errors else 0)
+
+
+class _progress:
+    """A rich progress bar on stderr, fed by ``update(done, total, loop_id)``."""
+
+    def __init__(self, console) -> None:  # noqa: ANN001
+        self.console = console
+        self.bar = None
+        self.task = None
+
+    def __enter__(self):
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeRemainingColumn
+
+        self.bar = Progress(TextColumn("rendering"), BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(),
+                            TextColumn("{task.description}"), console=self.console, transient=True)
+        self.bar.__enter__()
+        return self.update
+
+    def update(self, done: int, total: int, loop_id: str) -> None:
+        if self.task is None:
+            self.task = self.bar.add_task("", total=total)
+        self.bar.update(self.task, completed=done, description=loop_id)
+
+    def __exit__(self, *exc) -> None:  # noqa: ANN002
+        self.bar.__exit__(*exc)
+
+
+def register(app: typer.Typer) -> None:
+    app.command()(build)
