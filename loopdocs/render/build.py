@@ -74,6 +74,9 @@ class BuildResult:
     front_rendered: bool = False
     findings: list[Finding] = field(default_factory=list)
     seconds: float = 0.0
+    """Wall time of the whole build."""
+    render_seconds: dict[str, float] = field(default_factory=dict)
+    """Time each rendered sheet took in its worker (drawing, HTML, PDF, write)."""
 
     @property
     def has_errors(self) -> bool:
@@ -231,6 +234,7 @@ def build(
     from loopdocs.draw.symbols import symbols_dir
     from loopdocs.names import unique_filenames
     from loopdocs.pipeline import check_project
+    from loopdocs.render.pieces import group_loop
 
     started = time.perf_counter()
     out_dir = Path(out_dir)
@@ -261,7 +265,7 @@ def build(
     splits = _splits(checked)
     splits_by_loop: dict[str, list[Any]] = {}
     for group in splits:
-        splits_by_loop.setdefault(_group_loop(group, project), []).append(group)
+        splits_by_loop.setdefault(group_loop(group), []).append(group)
     symbols = symbols_dir()
     environment = environment_digest(TEMPLATES_DIR, symbols, SOURCE_DIR)
     manifest = Manifest(out_dir)
@@ -303,14 +307,6 @@ def build(
     return result
 
 
-def _group_loop(group: Any, project: Project) -> str:
-    loop = getattr(group, "loop", None)
-    if loop in project.loops:
-        return loop
-    controller = project.tags.get(getattr(group, "controller", ""))
-    return controller.loop if controller else str(loop)
-
-
 def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool,
             workers: int, manifest: Manifest, result: BuildResult,
             progress: Callable[[int, int, str], None] | None) -> None:
@@ -318,8 +314,9 @@ def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir:
     total = len(jobs)
     done = 0
 
-    def finished(job: Job) -> None:
+    def finished(job: Job, seconds: float) -> None:
         nonlocal done
+        result.render_seconds[job.loop_id] = seconds
         manifest.record(job.loop_id, job.key, job.path)
         result.rendered.append(job.loop_id)
         done += 1
@@ -333,8 +330,7 @@ def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir:
     if workers <= 1 or total == 1:
         _init_worker(checked, settings, project_dir, pdfa)
         for job in jobs:
-            render_job(job)
-            finished(job)
+            finished(job, render_job(job)[1])
         return
     import multiprocessing
 
@@ -348,13 +344,13 @@ def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir:
                 for future in complete:
                     job = pending.pop(future)
                     try:
-                        future.result()
+                        _, seconds = future.result()
                     except BrokenProcessPool:
                         raise BuildError(f"a rendering process died while building loop {job.loop_id}; "
                                          f"{len(result.rendered)} sheet(s) finished and kept, run the build again") from None
                     except Exception as exc:
                         raise BuildError(f"loop {job.loop_id}: the sheet could not be rendered ({type(exc).__name__}: {exc})") from exc
-                    finished(job)
+                    finished(job, seconds)
         except BaseException:
             for future in pending:
                 future.cancel()

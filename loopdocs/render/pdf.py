@@ -104,13 +104,9 @@ def sheet_pdf(
     pdfa: bool = False,
     attachments: Sequence[JsonAttachment] = (),
 ) -> bytes:
-    """One loop sheet as PDF. A sheet whose content runs over one page is laid out again
-    with ``page n of m`` under the frame of every page."""
+    """One loop sheet as PDF (a sheet that runs over continues on a second page)."""
     fetcher = ProjectFetcher([TEMPLATES_DIR, *allowed_dirs])
-    document = _document(sheet_html(pieces, frame), fetcher, TEMPLATES_DIR)
-    if len(document.pages) > 1:
-        document = _document(sheet_html(pieces, frame, page_count=len(document.pages)), fetcher, TEMPLATES_DIR)
-    return _write(document, fetcher, pdfa, attachments)
+    return _write(_document(sheet_html(pieces, frame), fetcher, TEMPLATES_DIR), fetcher, pdfa, attachments)
 
 
 def quiet_weasyprint() -> None:

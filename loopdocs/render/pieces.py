@@ -40,14 +40,16 @@ def calibrations_by_loop(project: Project, state: MutableMapping[str, Any]) -> d
     return cached
 
 
+def group_loop(group: Any) -> str:
+    """The loop a split group is shown on: its controller's (the group's own ``loop``
+    when the controller is not in the index)."""
+    record = getattr(group, "controller_record", None)
+    return record.loop if record is not None else group.loop
+
+
 def loop_groups(project: Project, loop_id: str, splits: Sequence[Any]) -> list[Any]:
-    """The split groups whose controller belongs to ``loop_id``."""
-    groups = []
-    for group in splits:
-        record = getattr(group, "controller_record", None)
-        if (record.loop if record is not None else group.loop) == loop_id:
-            groups.append(group)
-    return groups
+    """The split groups shown on the sheet of ``loop_id``."""
+    return [group for group in splits if group_loop(group) == loop_id]
 
 
 def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any],

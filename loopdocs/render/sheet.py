@@ -287,10 +287,9 @@ def fit_svg(svg: str, max_width_mm: float, max_height_mm: float) -> tuple[str, f
     return svg[:match.start()] + scaled + svg[match.end():], round(scale, 3)
 
 
-def page_css(settings: SheetSettings, page_count: int = 1, sheet_label: str = "") -> str:
+def page_css(settings: SheetSettings, sheet_label: str = "") -> str:
     """The ``@page`` rule for the configured paper (landscape, binding margin left), the
-    side column width, and for a sheet that runs over more than one page a page number
-    under the frame."""
+    side column width, and ``sheet_label, page i of k`` under the frame (bottom right)."""
     paper = settings.paper
     side = side_width_mm(settings)
     bottom = paper.margin_mm + (STRIP_MM if uses_strip(settings) else 0.0)
@@ -304,11 +303,13 @@ def page_css(settings: SheetSettings, page_count: int = 1, sheet_label: str = ""
                 f".side.strip {{ height: {STRIP_MM}mm; width: {strip_width:.1f}mm; }}\n"
                 f".side.strip table.title-block {{ width: {strip_width - 56 - 72 - 5:.1f}mm; }}\n")
     else:
-        css += f".side {{ width: {side}mm; }}\nmain {{ margin-right: {side + SIDE_GAP_MM}mm; }}\n"
-    if page_count > 1:
+        css += (f".side {{ width: {side}mm; }}\nmain {{ margin-right: {side + SIDE_GAP_MM}mm; }}\n"
+                f".watermark {{ right: {side + SIDE_GAP_MM}mm; }}\n")
+    if sheet_label:
         label = re.sub(r'[\\"<>\n\r{}]', "", sheet_label)  # inside a CSS string in <style>
-        css += (f'@page {{ @bottom-right {{ content: "{label}, page " counter(page) " of " counter(pages); '
-                f"font-size: {BODY_TEXT_MM}mm; vertical-align: top; padding-top: 1mm; }} }}\n")
+        box, align = ("top-right", "bottom; padding-bottom: 1mm") if uses_strip(settings) else ("bottom-right", "top; padding-top: 1mm")
+        css += (f'@page {{ @{box} {{ content: "{label}, page " counter(page) " of " counter(pages); '
+                f"font-size: {BODY_TEXT_MM}mm; vertical-align: {align}; }} }}\n")
     return css
 
 
@@ -329,19 +330,24 @@ def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool) -> f
     revisions_mm = 5.0 + 3.5 * (1 + revision_rows)
     title_block = 66.0 if paper.name != "A4" else 62.0
     status_mm = 34.0 if status else 0.0
-    return inner - caution - revisions_mm - title_block - status_mm - 10.0
+    return inner - caution - revisions_mm - title_block - status_mm - 12.0
+
+
+SECTION_MM = 10.5
+"""A side-column section's heading, its rule and the space after the section."""
 
 
 def side_text_mm(texts: Sequence[str], headings: int, width_mm: float) -> float:
-    """Height of notes and findings set in the side column (body type, one paragraph each)."""
-    return headings * 7.0 + sum(BODY_LINE_MM * _lines(t, width_mm - 7.0) + 0.8 for t in texts)
+    """Height of notes and findings set in the side column (body type, one paragraph
+    each, wrapped at the width less the list indent)."""
+    return headings * SECTION_MM + sum(BODY_LINE_MM * _lines(t, width_mm - 8.0) + 0.9 for t in texts)
 
 
-def sheet_html(pieces: SheetPieces, frame: SheetFrame, page_count: int = 1) -> str:
+def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
     """The HTML of one loop sheet (pure: same pieces and frame, same text).
 
-    ``page_count`` > 1 (a sheet whose content runs over) adds the page number under the
-    frame; :func:`loopdocs.render.pdf.sheet_pdf` renders again with it when needed.
+    Under the frame of every page: drawing number, sheet n of m, page i of k (a sheet
+    whose content runs over continues on a second page with the same side column).
     """
     from markupsafe import Markup
 
@@ -365,7 +371,7 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame, page_count: int = 1) -> s
     side_texts += [f"{v['severity']}, accepted {v['rule']} ({v['tags']}): {v['message']} Accepted by "
                    f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
     headings = 2 + bool(notes) + bool(accepted_views)
-    tag_rows_mm = 3.6 * (1 + len(pieces.tags))
+    tag_rows_mm = 3.9 * (1 + len(pieces.tags))
     strip = uses_strip(settings)
     room = 0.0 if strip else side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None)
     diagram, scale, diagram_mm = None, 1.0, 0.0
@@ -377,7 +383,7 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame, page_count: int = 1) -> s
     sheet_label = f"{drawing_number(tb.drawing_number, pieces.loop.id)} sheet {frame.sheet_no} of {frame.sheet_count}"
     context = {
         "paper": settings.paper,
-        "page_css": Markup(page_css(settings, page_count, sheet_label)),  # ours; the label is cleaned
+        "page_css": Markup(page_css(settings, sheet_label)),  # ours; the label is cleaned
         "strip": strip,
         "side_notes": not strip and side_text_mm(side_texts or ["-"], headings, side_width_mm(settings)) + tag_rows_mm <= room,
         "reduced_pct": round(scale * 100) if scale < 1.0 else None,
