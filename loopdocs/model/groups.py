@@ -317,7 +317,14 @@ class SplitGroup:
 
     def capacity_curve(self, step_pct: float = 1.0) -> list[tuple[float, float]] | None:
         """Total Cv against CO ``[(co_pct, cv)]`` with the intended travel, for the range
-        chart; ``None`` unless every element has a Cv and a usable intent."""
+        chart; ``None`` unless every element has a Cv and a usable intent.
+
+        Only where the elements pass one stream or two streams that add up (``staged``,
+        ``parallel``, ``opposed`` blending): in a ``staged-opposed`` group one element
+        takes away what the other brings (cooling against heating, vent against
+        supply), so a summed Cv means nothing and is not drawn."""
+        if self.mode not in ("staged", "parallel", "opposed"):
+            return None
         if not self.elements or any(e.record.cv is None or e.intent is None for e in self.elements):
             return None
         chars, ranges = _characteristics(self.elements)[:2]
