@@ -3,15 +3,13 @@ technicians' workbook."""
 
 from __future__ import annotations
 
-import json
-import sys
 from enum import Enum
 from pathlib import Path
 from typing import Annotated, Optional
 
 import typer
 
-from loopdocs.commands import FormatOpt, OutputFormat, PathArg, fail_input
+from loopdocs.commands import FormatOpt, OutputFormat, PathArg, emit_json, fail_input
 from loopdocs.errors import InputError
 
 
@@ -71,8 +69,7 @@ def calibrate(
     except InputError as exc:
         fail_input(exc)
     if format is OutputFormat.json:
-        json.dump(cset.as_json(), sys.stdout, indent=2)
-        sys.stdout.write("\n")
+        emit_json(cset.as_json())
     else:
         from loopdocs.calibration_text import print_calibration
 

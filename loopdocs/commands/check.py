@@ -3,12 +3,10 @@
 from __future__ import annotations
 
 import gc
-import json
-import sys
 
 import typer
 
-from loopdocs.commands import FormatOpt, OutputFormat, PathArg, fail_input
+from loopdocs.commands import FormatOpt, OutputFormat, PathArg, emit_json, fail_input
 from loopdocs.errors import InputError
 
 
@@ -28,10 +26,7 @@ def check(path: PathArg, format: FormatOpt = OutputFormat.text) -> None:
     except InputError as exc:
         fail_input(exc)
     if format is OutputFormat.json:
-        # Indented for a person at a terminal; compact (C encoder, several times faster) for tools.
-        indent = 2 if sys.stdout.isatty() else None
-        json.dump(check_json(checked), sys.stdout, indent=indent)
-        sys.stdout.write("\n")
+        emit_json(check_json(checked))
     else:
         print_check(checked)
     raise typer.Exit(1 if any(f.counts_as_error for f in checked.findings) else 0)

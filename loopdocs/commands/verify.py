@@ -2,14 +2,12 @@
 
 from __future__ import annotations
 
-import json
-import sys
 from pathlib import Path
 from typing import Annotated, Optional
 
 import typer
 
-from loopdocs.commands import FormatOpt, OutputFormat, fail_input
+from loopdocs.commands import FormatOpt, OutputFormat, emit_json, fail_input
 from loopdocs.errors import InputError
 
 WorkbookArg = Annotated[Path, typer.Argument(help="A calibration workbook written by loopdocs calibrate --out, filled in.")]
@@ -41,8 +39,7 @@ def verify(workbook: WorkbookArg, format: FormatOpt = OutputFormat.text, out: Su
     except InputError as exc:
         fail_input(exc)
     if format is OutputFormat.json:
-        json.dump(report.as_json(), sys.stdout, indent=2)
-        sys.stdout.write("\n")
+        emit_json(report.as_json())
     else:
         _print(report)
     if out is not None:
