@@ -102,6 +102,24 @@ def test_calibration_tables_print_each_point_once_and_merge_loop_checks(example)
     assert fmt_number(-5.0) == "\u22125"
 
 
+def test_loop_calibrations_equal_the_project_calibration_set(example):
+    # The sheet computes each loop's tables on the loop and its Driven By links only (so a
+    # rebuild of one sheet does not compute the whole index); they must be the very tables
+    # loopdocs.calibration gives for the whole project.
+    from loopdocs.calibration import calibration_set
+    from loopdocs.render.pieces import loop_calibrations
+
+    project = example.project
+    whole: dict[str, list] = {}
+    for table in calibration_set(project).tables:
+        whole.setdefault(table.loop or project.tags[table.tag].loop, []).append(table.as_json())
+    state: dict = {}
+    key = lambda j: (j["tag"], j["kind"])  # noqa: E731
+    for loop_id in project.loops:
+        mine = [t.as_json() for t in loop_calibrations(project, loop_id, state)]
+        assert sorted(mine, key=key) == sorted(whole.get(loop_id, []), key=key), loop_id
+
+
 def test_sheet_pieces_come_from_the_stages_upstream(example):
     pieces = pieces_of(example, "T-3105")
     assert [t.tag for t in pieces.tags] == list(example.project.loops["T-3105"].tags)

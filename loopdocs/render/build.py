@@ -16,7 +16,7 @@ Output folder::
 
     OUT/loop-sheets.pdf            the package
     OUT/loops/<loop>.pdf           one PDF per loop
-    OUT/.loopdocs-cache/           manifest (keys), cached front matter
+    OUT/.loopdocs-cache/           manifest (keys), front matter, one join fragment per sheet
 
 A worker that dies mid-write leaves only its temporary ``.part`` file, which the build
 removes; files in their final names are always complete.
@@ -50,6 +50,7 @@ from loopdocs.starter import atomic_write
 PACKAGE_NAME = "loop-sheets.pdf"
 LOOPS_DIR = "loops"
 FRONT_CACHE = "front.pdf"
+FRAGMENTS_DIR = "fragments"
 CRASH_ENV = "LOOPDOCS_TEST_CRASH_LOOP"
 SOURCE_DIR = Path(__file__).resolve().parent.parent
 
@@ -256,7 +257,7 @@ def build(
 
     loops_dir = out_dir / LOOPS_DIR
     cache_dir = out_dir / CACHE_DIR_NAME
-    for folder in (out_dir, loops_dir, cache_dir):
+    for folder in (out_dir, loops_dir, cache_dir, cache_dir / FRAGMENTS_DIR):
         folder.mkdir(parents=True, exist_ok=True)
         remove_partials(folder)
 
@@ -363,7 +364,6 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
              result: BuildResult, manifest: Manifest, pdfa: bool, project_dir: Path) -> None:
     """Front matter (cached by content) and the joined package (rejoined when any part changed)."""
     from loopdocs.render.package import ListRow, front_html, write_package
-    from loopdocs.render.pdf import html_to_pdf
 
     tb = project.config.title_block
     revision = current_revision(tb, settings)
@@ -381,6 +381,8 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
     })
     front_path = result.out_dir / CACHE_DIR_NAME / FRONT_CACHE
     if not manifest.artefact_fresh("front", front_key):
+        from loopdocs.render.pdf import html_to_pdf
+
         html = front_html(tb, settings, rows, open_errors=counts.error, open_warnings=counts.warning, accepted=counts.accepted)
         pdf = html_to_pdf(html, allowed_dirs=[project_dir], pdfa=pdfa)
         atomic_write(front_path, lambda tmp: (tmp.write_bytes(pdf), shareable(tmp)))
@@ -393,8 +395,21 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
     if manifest.artefact_fresh("package", package_key) and not result.rendered and not result.front_rendered:
         return
     sheets = [(result.loop_files[l], _bookmark(l, project.loops[l].service)) for l in all_loops]
-    result.package_pages = write_package(package_path, front_path, sheets, title_block=tb, settings=settings, pdfa=pdfa)
+    fragments = result.out_dir / CACHE_DIR_NAME / FRAGMENTS_DIR
+    result.package_pages = write_package(package_path, front_path, sheets, title_block=tb, settings=settings,
+                                         pdfa=pdfa, fragment_dir=fragments)
+    _prune_fragments(fragments, [front_path, *(p for p, _ in sheets)])
     manifest.record_artefact("package", package_key, package_path)
+
+
+def _prune_fragments(folder: Path, sources: Sequence[Path]) -> None:
+    """Delete kept fragments of sheets that are no longer in the package."""
+    from loopdocs.render.package import FRAGMENT_SUFFIX
+
+    wanted = {p.name + FRAGMENT_SUFFIX for p in sources}
+    for fragment in folder.glob("*" + FRAGMENT_SUFFIX):
+        if fragment.name not in wanted:
+            fragment.unlink(missing_ok=True)
 
 
 def _bookmark(loop_id: str, service: str | None) -> str:

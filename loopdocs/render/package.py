@@ -76,10 +76,41 @@ def front_html(title_block: TitleBlock, settings: SheetSettings, rows: Sequence[
     return environment().get_template("front.html").render(context)
 
 
-def write_package(path: Path, front_pdf: bytes | Path, sheets: Sequence[tuple[Path, str]], *,
-                  title_block: TitleBlock, settings: SheetSettings, pdfa: bool = False) -> int:
+FRAGMENT_SUFFIX = ".frag"
+
+
+def cached_fragment(pdf: Path, fragment_dir: Path | None):
+    """The :class:`~loopdocs.render.pdfjoin.Fragment` of ``pdf``, from ``fragment_dir``
+    when it was made from this very file (same size and modification time), else made
+    now and kept there (pickle, written with ``atomic_write``)."""
+    import pickle
+
+    from loopdocs.render.pdfjoin import make_fragment
+
+    stat = pdf.stat()
+    stamp = (stat.st_size, stat.st_mtime_ns)
+    if fragment_dir is None:
+        return make_fragment(pdf.read_bytes())
+    cache = fragment_dir / (pdf.name + FRAGMENT_SUFFIX)
+    try:
+        with open(cache, "rb") as handle:
+            kept_stamp, fragment = pickle.load(handle)
+        if kept_stamp == stamp:
+            return fragment
+    except (OSError, EOFError, pickle.UnpicklingError, ValueError, TypeError, AttributeError):
+        pass
+    fragment = make_fragment(pdf.read_bytes())
+    data = pickle.dumps((stamp, fragment), protocol=pickle.HIGHEST_PROTOCOL)
+    atomic_write(cache, lambda tmp: tmp.write_bytes(data))
+    return fragment
+
+
+def write_package(path: Path, front_pdf: Path, sheets: Sequence[tuple[Path, str]], *,
+                  title_block: TitleBlock, settings: SheetSettings, pdfa: bool = False,
+                  fragment_dir: Path | None = None) -> int:
     """Join the front matter and the sheets (``(pdf path, bookmark title)`` in loop order)
-    into ``path``; returns the page count."""
+    into ``path``; returns the page count. With ``fragment_dir`` each source is parsed
+    once and kept there as a fragment for the next join."""
     from loopdocs.render.files import shareable
     from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
 
@@ -97,9 +128,9 @@ def write_package(path: Path, front_pdf: bytes | Path, sheets: Sequence[tuple[Pa
         nonlocal pages
         with open(tmp, "wb") as out:
             join = PdfJoin(out, info, pdfa=pdfa)
-            join.add(front_pdf, bookmark="Cover sheet and drawing list")
+            join.add(cached_fragment(Path(front_pdf), fragment_dir), bookmark="Cover sheet and drawing list")
             for sheet_path, title in sheets:
-                join.add(sheet_path, bookmark=title)
+                join.add(cached_fragment(Path(sheet_path), fragment_dir), bookmark=title)
             join.close()
             pages = join.page_count
         shareable(tmp)

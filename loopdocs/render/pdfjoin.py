@@ -1,10 +1,15 @@
 """Join PDF files into one, streaming: memory does not grow with the number of sheets.
 
 ``pypdf.PdfWriter.append`` keeps every copied object in memory until the end (measured:
-about 270 MB for 1,500 one-page sheets, growing in proportion). :class:`PdfJoin` reads one
-source at a time with ``pypdf.PdfReader``, writes the objects its pages use straight to
-the output with new object numbers, and keeps only the numbers and byte offsets it needs
-for the cross-reference table, the page tree, the bookmarks and the attachment list.
+about 270 MB for 1,500 one-page sheets, growing in proportion). :class:`PdfJoin` takes one
+source at a time, writes the objects its pages use straight to the output with new
+object numbers, and keeps only the numbers and byte offsets it needs for the
+cross-reference table, the page tree, the bookmarks and the attachment list.
+
+A source is first made a :class:`Fragment` (parsed once with ``pypdf.PdfReader``, each
+object serialised with its references cut out); joining a fragment is writing bytes
+with shifted numbers. The build keeps a fragment per sheet, so a rebuild after one
+change parses one sheet, not thousands.
 
 The output is a classic PDF 1.7 file (ISO 32000-1): header with a binary comment line,
 indirect objects, one flat page tree, a document outline (one bookmark per source,
@@ -22,6 +27,8 @@ from __future__ import annotations
 
 import hashlib
 import io
+import os
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from datetime import datetime, timezone
@@ -81,6 +88,119 @@ def _pdf_date(moment: datetime) -> str:
     return moment.strftime("D:%Y%m%d%H%M%S") + f"{sign}{minutes // 60:02d}'{minutes % 60:02d}'"
 
 
+PAGES_ROOT = -1
+"""Relative reference of a fragment to the page tree root of the joined file."""
+_TOKEN = b"\x00loopdocs-ref-" + os.urandom(6).hex().encode() + b":"
+_SPLIT = re.compile(re.escape(_TOKEN) + rb"(-?[0-9]+);")
+
+
+class _Mark(IndirectObject):
+    """A reference inside a fragment: written as a token that :func:`_splice` replaces."""
+
+    def __init__(self, relative: int) -> None:
+        super().__init__(relative, 0, None)
+
+    def write_to_stream(self, stream, encryption_key=None) -> None:  # noqa: ANN001
+        stream.write(_TOKEN + str(self.idnum).encode() + b";")
+
+
+@dataclass(frozen=True)
+class FragmentObject:
+    parts: tuple[bytes, ...]
+    """The object's text (its dictionary for a stream) cut at each reference."""
+    refs: tuple[int, ...]
+    """Relative number of each reference (``PAGES_ROOT`` for the page tree)."""
+    stream: bytes | None = None
+    """Stream data, as stored (still encoded)."""
+
+
+@dataclass(frozen=True)
+class Fragment:
+    """One source PDF, parsed once, with its objects serialised and numbered 0, 1, 2...:
+    joining it is writing bytes with the numbers shifted, no parsing. Picklable, so the
+    build keeps one per sheet and a rebuild parses only the sheets that changed."""
+
+    objects: tuple[FragmentObject, ...]
+    pages: tuple[int, ...]
+    files: tuple[tuple[str, int], ...] = ()
+    output_intents: tuple[tuple[bytes, ...], tuple[int, ...]] | None = None
+
+
+def _serialise(obj: PdfObject) -> tuple[tuple[bytes, ...], tuple[int, ...]]:
+    buffer = io.BytesIO()
+    obj.write_to_stream(buffer)
+    pieces = _SPLIT.split(buffer.getvalue())
+    return tuple(pieces[0::2]), tuple(int(ref) for ref in pieces[1::2])
+
+
+def _splice(parts: Sequence[bytes], refs: Sequence[int], number) -> bytes:  # noqa: ANN001
+    out = [parts[0]]
+    for ref, part in zip(refs, parts[1:]):
+        out.append(f"{number(ref)} 0 R".encode())
+        out.append(part)
+    return b"".join(out)
+
+
+def make_fragment(data: bytes) -> Fragment:
+    """Parse one PDF (pypdf) into a :class:`Fragment`: the objects its pages use (not its
+    page tree, catalog or outline), its embedded files (associated with its first page,
+    ``/AF``) and its output intents."""
+    reader = PdfReader(io.BytesIO(data))
+    relative: dict[int, int] = {}
+    order: list[int] = []
+
+    def rel(idnum: int) -> int:
+        if idnum not in relative:
+            relative[idnum] = len(order)
+            order.append(idnum)
+        return relative[idnum]
+
+    def remap(obj: PdfObject) -> PdfObject:
+        if isinstance(obj, IndirectObject):
+            return _Mark(rel(obj.idnum))
+        if isinstance(obj, StreamObject):
+            copy = DictionaryObject({key: remap(value) for key, value in dict.items(obj) if key != "/Length"})
+            copy[NameObject("/Length")] = NumberObject(len(obj._data))
+            return copy
+        if isinstance(obj, DictionaryObject):
+            return DictionaryObject({key: remap(value) for key, value in dict.items(obj)})
+        if isinstance(obj, ArrayObject):
+            return ArrayObject(remap(value) for value in list.__iter__(obj))
+        return obj
+
+    pages = list(reader.pages)
+    page_ids = {page.indirect_reference.idnum: page for page in pages}
+    page_refs = tuple(rel(idnum) for idnum in page_ids)
+    root = reader.trailer["/Root"]
+    old_tree = dict.__getitem__(root, "/Pages")
+    if isinstance(old_tree, IndirectObject):
+        relative[old_tree.idnum] = PAGES_ROOT
+    names = root.get("/Names") if "/Names" in root else None
+    files = tuple((name, rel(spec.idnum)) for name, spec in _name_tree_entries(
+        names.get("/EmbeddedFiles") if names is not None else None) if isinstance(spec, IndirectObject))
+    intents = _serialise(remap(dict.__getitem__(root, "/OutputIntents"))) if "/OutputIntents" in root else None
+
+    objects: list[FragmentObject] = []
+    index = 0
+    while index < len(order):
+        idnum = order[index]
+        page = page_ids.get(idnum)
+        if page is not None:
+            obj = DictionaryObject({key: remap(value) for key, value in dict.items(page) if key != "/Parent"})
+            obj[NameObject("/Parent")] = _Mark(PAGES_ROOT)
+            if page_refs and relative[idnum] == page_refs[0] and files:
+                obj[NameObject("/AF")] = ArrayObject(_Mark(ref) for _, ref in files)
+            stream = None
+        else:
+            source = reader.get_object(idnum)
+            stream = source._data if isinstance(source, StreamObject) else None
+            obj = remap(source)
+        parts, refs = _serialise(obj)
+        objects.append(FragmentObject(parts, refs, stream))
+        index += 1
+    return Fragment(tuple(objects), page_refs, files, intents)
+
+
 class PdfJoin:
     """Write sources one after another into ``out`` (a binary file open for writing).
 
@@ -136,80 +256,33 @@ class PdfJoin:
         return number
 
     # -- copying one source ------------------------------------------------------------
-    def add(self, source: bytes | Path, bookmark: str | None = None) -> int:
-        """Append every page of ``source`` (PDF bytes or a path); bookmark its first page.
+    def add(self, source: bytes | Path | Fragment, bookmark: str | None = None) -> int:
+        """Append every page of ``source`` (PDF bytes, a path, or a :class:`Fragment` made
+        from one earlier); bookmark its first page. Returns the number of pages added."""
+        fragment = source if isinstance(source, Fragment) else make_fragment(
+            source if isinstance(source, bytes) else Path(source).read_bytes())
+        base = len(self._offsets)
+        self._offsets.extend([0] * len(fragment.objects))
 
-        Returns the number of pages added.
-        """
-        data = source if isinstance(source, bytes) else Path(source).read_bytes()
-        reader = PdfReader(io.BytesIO(data))
-        mapping: dict[int, int] = {}
-        pending: list[int] = []
+        def number(ref: int) -> int:
+            return self._pages if ref == PAGES_ROOT else base + ref
 
-        def ref(old: IndirectObject) -> _Ref:
-            new = mapping.get(old.idnum)
-            if new is None:
-                new = mapping[old.idnum] = self._reserve()
-                pending.append(old.idnum)
-            return _Ref(new)
-
-        def remap(obj: PdfObject) -> PdfObject:
-            if isinstance(obj, IndirectObject):
-                return ref(obj)
-            if isinstance(obj, StreamObject):
-                items = {key: remap(value) for key, value in dict.items(obj) if key != "/Length"}
-                return StreamObject.initialize_from_dictionary({**items, "__streamdata__": obj._data})
-            if isinstance(obj, DictionaryObject):
-                copy = DictionaryObject()
-                for key, value in dict.items(obj):
-                    copy[key] = remap(value)
-                return copy
-            if isinstance(obj, ArrayObject):
-                return ArrayObject(remap(value) for value in list.__iter__(obj))
-            return obj
-
-        def drain() -> None:
-            while pending:
-                old = pending.pop()
-                self._write_object(mapping[old], remap(reader.get_object(old)))
-
-        # Pages get their numbers first (a link on one page may point at another), and
-        # the source's page tree root is ours: nothing copies the old tree.
-        pages = list(reader.pages)
-        for page in pages:
-            mapping[page.indirect_reference.idnum] = self._reserve()
-        root = reader.trailer["/Root"]
-        old_tree = dict.__getitem__(root, "/Pages")
-        if isinstance(old_tree, IndirectObject):
-            mapping[old_tree.idnum] = self._pages
-
-        # Attachments next, so that their numbers are known when the first page is written.
-        files = []
-        names = root.get("/Names") if "/Names" in root else None
-        for name, spec in _name_tree_entries(names.get("/EmbeddedFiles") if names is not None else None):
-            if isinstance(spec, IndirectObject):
-                files.append((name, ref(spec).idnum))
-        drain()
-        if self._output_intents is None and "/OutputIntents" in root:
-            self._output_intents = remap(dict.__getitem__(root, "/OutputIntents"))
-            drain()
-
-        for i, page in enumerate(pages):
-            copy = DictionaryObject()
-            for key, value in dict.items(page):
-                if key != "/Parent":
-                    copy[key] = remap(value)
-            copy[NameObject("/Parent")] = _Ref(self._pages)
-            if i == 0 and files and self.pdfa:
-                copy[NameObject("/AF")] = ArrayObject(_Ref(n) for _, n in files)
-            drain()
-            number = mapping[page.indirect_reference.idnum]
-            self._write_object(number, copy)
-            if i == 0 and bookmark is not None:
-                self._bookmarks.append(Bookmark(bookmark, len(self._page_refs)))
-            self._page_refs.append(number)
-        self._files.extend(files)
-        return len(pages)
+        for index, obj in enumerate(fragment.objects):
+            self._offsets[base + index] = self._position()
+            self._write_raw(f"{base + index} 0 obj\n".encode() + _splice(obj.parts, obj.refs, number)
+                            + (b"\nstream\n" + obj.stream + b"\nendstream" if obj.stream is not None else b"")
+                            + b"\nendobj\n")
+        if self._output_intents is None and fragment.output_intents is not None:
+            parts, refs = fragment.output_intents
+            intents = self._reserve()
+            self._offsets[intents] = self._position()
+            self._write_raw(f"{intents} 0 obj\n".encode() + _splice(parts, refs, number) + b"\nendobj\n")
+            self._output_intents = _Ref(intents)
+        if bookmark is not None and fragment.pages:
+            self._bookmarks.append(Bookmark(bookmark, len(self._page_refs)))
+        self._page_refs.extend(base + ref for ref in fragment.pages)
+        self._files.extend((name, base + ref) for name, ref in fragment.files)
+        return len(fragment.pages)
 
     # -- finishing ----------------------------------------------------------------------
     @property

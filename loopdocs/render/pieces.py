@@ -3,7 +3,7 @@ range charts (``loopdocs.draw``), the calibration tables (``loopdocs.calibration
 the findings. No drawing or computing happens here.
 
 ``state`` is a per-process dict (the build worker's) that keeps what is computed once
-for the whole project: the calibration tables by loop.
+for the whole project (the reverse Driven By index).
 """
 
 from __future__ import annotations
@@ -24,20 +24,49 @@ def _kind_rank(kind: str) -> int:
     return next((i for i, k in enumerate(_KIND_ORDER) if k in kind), len(_KIND_ORDER))
 
 
-def calibrations_by_loop(project: Project, state: MutableMapping[str, Any]) -> dict[str, list[Any]]:
-    """Calibration tables (``CalibrationTable``) of every loop, computed once per process."""
-    cached = state.get("calibrations")
-    if cached is None:
-        from loopdocs.calibration import calibration_set
+def linked_tags(project: Project, loop_id: str, state: MutableMapping[str, Any]) -> list[str]:
+    """The loop's tags and every tag linked to them through Driven By, in either
+    direction and transitively (controller, its converters and every element it moves),
+    in index order."""
+    reverse = state.get("driven_reverse")
+    if reverse is None:
+        reverse = {}
+        for tag in project.tags.values():
+            if tag.driven_by:
+                reverse.setdefault(tag.driven_by.strip().upper(), []).append(tag.tag)
+        state["driven_reverse"] = reverse
+    found = set(project.loops[loop_id].tags)
+    todo = list(found)
+    while todo:
+        name = todo.pop()
+        tag = project.tags.get(name)
+        linked = list(reverse.get(name.upper(), ()))
+        if tag is not None and tag.driven_by:
+            linked.append(tag.driven_by.strip().upper())
+        for other in linked:
+            if other in project.tags and other not in found:
+                found.add(other)
+                todo.append(other)
+    return sorted(found, key=lambda n: project.tags[n].row)
 
-        cached = {}
-        for table in calibration_set(project).tables:
-            loop = table.loop or (project.tags[table.tag].loop if table.tag in project.tags else "")
-            cached.setdefault(loop, []).append(table)
-        for tables in cached.values():
-            tables.sort(key=lambda t: _kind_rank(t.kind))
-        state["calibrations"] = cached
-    return cached
+
+def loop_project(project: Project, loop_id: str, state: MutableMapping[str, Any]) -> Project:
+    """The part of ``project`` that the calibration tables of ``loop_id`` depend on: its
+    linked tags (:func:`linked_tags`) and their loops. Computing on it costs what the
+    loop costs, not what the whole index costs (a rebuild of one sheet of a large index)."""
+    tags = {name: project.tags[name] for name in linked_tags(project, loop_id, state)}
+    loops = {lid: project.loops[lid] for lid in dict.fromkeys(t.loop for t in tags.values())}
+    return project.model_copy(update={"tags": tags, "loops": loops})
+
+
+def loop_calibrations(project: Project, loop_id: str, state: MutableMapping[str, Any]) -> list[Any]:
+    """Calibration tables (``CalibrationTable``) of the loop's tags, measurement first."""
+    from loopdocs.calibration import calibration_set
+
+    part = loop_project(project, loop_id, state)
+    tables = [t for t in calibration_set(part).tables
+              if (t.loop or (part.tags[t.tag].loop if t.tag in part.tags else "")) == loop_id]
+    return sorted(tables, key=lambda t: _kind_rank(t.kind))
 
 
 def group_loop(group: Any) -> str:
@@ -63,7 +92,7 @@ def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], spl
     loop = project.loops[loop_id]
     tags = project.tags_of(loop_id)
     groups = loop_groups(project, loop_id, splits)
-    calibrations = calibrations_by_loop(project, state).get(loop_id, [])
+    calibrations = loop_calibrations(project, loop_id, state)
     pieces = SheetPieces(
         loop=loop,
         tags=tags,

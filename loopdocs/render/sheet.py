@@ -230,6 +230,8 @@ BODY_LINE_MM = BODY_TEXT_MM * 1.2
 
 STRIP_MM = 44.0
 """Height of the strip that holds caution, revisions and title block on A4 (below the frame)."""
+FLOAT_GAP_MM = 4.0
+"""Space right of and below each float of the drawing area (``sheet.css`` ``.pack``)."""
 HEADER_MM = 13.0
 """Loop id line at the top of the sheet, with its rule and spacing."""
 
@@ -374,12 +376,19 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
     tag_rows_mm = 3.9 * (1 + len(pieces.tags))
     strip = uses_strip(settings)
     room = 0.0 if strip else side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None)
-    diagram, scale, diagram_mm = None, 1.0, 0.0
+    diagram, scale = None, 1.0
+    diagram_w, diagram_h = 0.0, 0.0
     box_w, box_h = content_box_mm(settings)
     if pieces.diagram_svg:
         diagram, scale = fit_svg(trusted_svg(pieces.diagram_svg), box_w, box_h)
-        diagram_mm = svg_size_mm(diagram)[1] + 3.0
-    calibrations = packing_order(calibrations, box_h - diagram_mm)
+        diagram_w, diagram_h = (v + FLOAT_GAP_MM for v in svg_size_mm(diagram))
+    charts = [fit_svg(trusted_svg(svg), box_w, box_h)[0] for svg in pieces.range_charts_svg]
+    # Floats never go above an earlier one: a chart that fits neither beside nor under the
+    # diagram goes after the tables, so that they can fill the room beside the diagram.
+    chart_w = max((svg_size_mm(c)[0] for c in charts), default=0.0) + FLOAT_GAP_MM
+    chart_h = sum(svg_size_mm(c)[1] + FLOAT_GAP_MM for c in charts)
+    charts_first = chart_w <= box_w - diagram_w or chart_h <= box_h - diagram_h
+    calibrations = packing_order(calibrations, box_h - diagram_h - (chart_h if charts_first else 0.0))
     sheet_label = f"{drawing_number(tb.drawing_number, pieces.loop.id)} sheet {frame.sheet_no} of {frame.sheet_count}"
     context = {
         "paper": settings.paper,
@@ -391,7 +400,8 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
         "service": pieces.loop.service or "",
         "tags": [_tag_row(t) for t in pieces.tags],
         "diagram": Markup(diagram) if diagram else None,
-        "charts": [Markup(trusted_svg(svg)) for svg in pieces.range_charts_svg],
+        "charts": [Markup(svg) for svg in charts],
+        "charts_first": charts_first,
         "calibrations": calibrations,
         "open_findings": finding_views,
         "accepted": accepted_views,
