@@ -97,15 +97,6 @@ def loop_findings(findings: Sequence[Finding], project: Project) -> dict[str, li
     return by_loop
 
 
-def _related_tags(project: Project, loop_id: str) -> list[str]:
-    """The loop's tags, plus tags outside it that drive them or that they drive."""
-    own = list(project.loops[loop_id].tags)
-    names = set(own)
-    related = {t.driven_by.upper() for name in own if (t := project.tags[name]).driven_by}
-    related |= {t.tag for t in project.tags.values() if t.driven_by and t.driven_by.upper() in names}
-    return own + sorted(related - names)
-
-
 def tag_record(project: Project, name: str) -> dict[str, Any]:
     """A tag as JSON for the cache key and the PDF/A attachment (no spreadsheet row)."""
     tag = project.tags.get(name)
@@ -121,13 +112,18 @@ def finding_record(finding: Finding) -> dict[str, Any]:
     return data
 
 
-def loop_record(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any] = ()) -> dict[str, Any]:
-    """What one sheet shows, as JSON: the loop, its (and related) tags, its findings and
-    split groups. Hashed for the cache; attached to the PDF/A sheet."""
+def loop_record(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any] = (),
+                state: dict[str, Any] | None = None) -> dict[str, Any]:
+    """What one sheet shows, as JSON: the loop, its tags and the tags linked to them by
+    Driven By (``pieces.linked_tags``), its findings and split groups. Hashed for the
+    cache; attached to the PDF/A sheet. ``state`` keeps the Driven By index between calls."""
+    from loopdocs.render.pieces import linked_tags
+
     loop = project.loops[loop_id]
+    names = list(dict.fromkeys([*loop.tags, *linked_tags(project, loop_id, {} if state is None else state)]))
     return {
         "loop": loop.model_dump(mode="json"),
-        "tags": [tag_record(project, name) for name in _related_tags(project, loop_id)],
+        "tags": [tag_record(project, name) for name in names],
         "findings": [finding_record(f) for f in findings],
         "splits": [group.as_json() for group in splits],
     }
@@ -274,9 +270,10 @@ def build(
 
     jobs: list[Job] = []
     keys: dict[str, str] = {}
+    links: dict[str, Any] = {}
     for number, loop_id in enumerate(all_loops, start=1):
         found = findings_by_loop[loop_id]
-        record = loop_record(project, loop_id, found, splits_by_loop.get(loop_id, ()))
+        record = loop_record(project, loop_id, found, splits_by_loop.get(loop_id, ()), links)
         key = loop_key(environment, record, frame_record(project, settings, loop_id, number, count, pdfa))
         keys[loop_id] = key
         target = loops_dir / f"{names[loop_id]}.pdf"

@@ -101,6 +101,6 @@ def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], spl
         calibrations=calibrations,
         findings=findings,
     )
-    record = loop_record(project, loop_id, findings, groups)
+    record = loop_record(project, loop_id, findings, groups, state)
     record["calibration"] = [table.as_json() for table in calibrations]
     return pieces, record
