@@ -15,9 +15,10 @@ those of a real command; the child prints its own figures as JSON:
   worker (``ru_maxrss`` of its waited-for children), at every N (target under 500 MB
   and not growing with N).
 
-The machine's cores are shared: the figures are wall times of one run each for the full
-builds and medians for the rebuilds. Run:
-``.venv/bin/python benchmarks/bench_build.py --loops 100 300 [--repeat 3] [--skip-one-worker]``.
+Every build runs from a copy of ``loopdocs/`` and ``symbols/`` taken at the start (the
+cache keys hash the source code). The machine's cores are shared: the figures are wall
+times of one run each for the full builds and medians for the rebuilds. Run:
+``.venv/bin/python benchmarks/bench_build.py --loops 100 300 3000 [--repeat 3] [--skip-one-worker 3000]``.
 """
 
 from __future__ import annotations
@@ -74,9 +75,21 @@ def index_for(n_loops: int, seed: int = 0) -> Path:
     return path
 
 
+SNAPSHOT = OUT / "snapshot"
+
+
+def take_snapshot() -> None:
+    """Copy ``loopdocs/`` and ``symbols/`` aside and run every build from the copy, so that
+    commits made while the benchmark runs do not change the code the cache keys hash."""
+    shutil.rmtree(SNAPSHOT, ignore_errors=True)
+    shutil.copytree(ROOT / "loopdocs", SNAPSHOT / "loopdocs", ignore=shutil.ignore_patterns("__pycache__"))
+    shutil.copytree(ROOT / "symbols", SNAPSHOT / "symbols")
+
+
 def run_build(index: Path, out: Path, workers: int) -> dict:
+    env = {**os.environ, "PYTHONPATH": str(SNAPSHOT)} if SNAPSHOT.is_dir() else None
     done = subprocess.run([PYTHON, "-c", CHILD, str(index), str(out), str(workers)],
-                          capture_output=True, text=True, cwd=ROOT)
+                          capture_output=True, text=True, cwd=ROOT, env=env)
     if done.returncode != 0:
         raise SystemExit(f"build failed:\n{done.stderr[-3000:]}")
     return json.loads(done.stdout.strip().splitlines()[-1])
@@ -158,10 +171,14 @@ def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--loops", type=int, nargs="+", default=[100, 300])
     parser.add_argument("--repeat", type=int, default=3)
-    parser.add_argument("--skip-one-worker", action="store_true", help="skip the 1-worker full build")
+    parser.add_argument("--skip-one-worker", type=int, nargs="*", default=[],
+                        help="N values for which the 1-worker full build is skipped (all when given alone)")
     args = parser.parse_args()
     print(f"{os.cpu_count()} CPU cores; python {sys.version.split()[0]}", flush=True)
-    all_results = [bench(n, args.repeat, not args.skip_one_worker) for n in args.loops]
+    take_snapshot()
+    skip = args.skip_one_worker
+    all_results = [bench(n, args.repeat, not (skip == [] and "--skip-one-worker" in sys.argv or n in skip))
+                   for n in args.loops]
     print("\nsummary")
     for r in all_results:
         line = (f"N={r['loops']}: full {r['full_w2']['build_s']:.1f} s "
