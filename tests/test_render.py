@@ -120,6 +120,21 @@ def test_loop_calibrations_equal_the_project_calibration_set(example):
         assert sorted(mine, key=key) == sorted(whole.get(loop_id, []), key=key), loop_id
 
 
+def test_loop_part_draws_the_same_diagram_and_charts(example):
+    # Sheets draw from the loop's part of the project (pieces.loop_project); loopdocs draw
+    # works on the whole project: the SVG must be byte for byte the same.
+    from loopdocs.draw.export import loop_charts, loop_diagram_svg
+    from loopdocs.render.build import loop_findings
+    from loopdocs.render.pieces import loop_project
+
+    project, state = example.project, {}
+    findings = loop_findings(example.findings, project)
+    for loop_id in project.loops:
+        part = loop_project(project, loop_id, state)
+        assert loop_diagram_svg(part, loop_id) == loop_diagram_svg(project, loop_id), loop_id
+        assert loop_charts(part, loop_id, findings[loop_id]) == loop_charts(project, loop_id, findings[loop_id]), loop_id
+
+
 def test_sheet_pieces_come_from_the_stages_upstream(example):
     pieces = pieces_of(example, "T-3105")
     assert [t.tag for t in pieces.tags] == list(example.project.loops["T-3105"].tags)

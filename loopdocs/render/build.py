@@ -6,9 +6,11 @@ Steps (:func:`build`):
 2. give every loop its sheet number, output file name (``loopdocs.names``) and cache key
    (``loopdocs.render.cache``); loops whose output is fresh are reused;
 3. render the others in a ``ProcessPoolExecutor`` (``workers`` processes, default
-   ``os.cpu_count()``); each worker holds the project once (pool initializer), draws the
-   loop's diagram and range charts, takes its calibration tables, renders the HTML and
-   writes the PDF with ``atomic_write`` (temporary file, then rename);
+   ``os.cpu_count()``, forked, in waves of ``SHEETS_PER_PROCESS`` sheets per worker so
+   that memory does not grow with the number of loops); each worker holds the project
+   once (pool initializer), draws the loop's diagram and range charts, takes its
+   calibration tables, renders the HTML and writes the PDF with ``atomic_write``
+   (temporary file, then rename);
 4. unless a selection was asked for, render the front matter (cover sheet, drawing list)
    and join everything into the package, again through a temporary file.
 
@@ -51,6 +53,8 @@ PACKAGE_NAME = "loop-sheets.pdf"
 LOOPS_DIR = "loops"
 FRONT_CACHE = "front.pdf"
 FRAGMENTS_DIR = "fragments"
+SHEETS_PER_PROCESS = 100
+"""Sheets a worker process renders before it is replaced (memory stays flat)."""
 CRASH_ENV = "LOOPDOCS_TEST_CRASH_LOOP"
 SOURCE_DIR = Path(__file__).resolve().parent.parent
 
@@ -325,16 +329,37 @@ def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir:
 
     if not jobs:
         return
-    if workers <= 1 or total == 1:
+    if total <= 2 or (workers <= 1 and total <= SHEETS_PER_PROCESS):
         _init_worker(checked, settings, project_dir, pdfa)
         for job in jobs:
             finished(job, render_job(job)[1])
         return
     import multiprocessing
 
+    _warm_up()
     context = multiprocessing.get_context("fork") if "fork" in multiprocessing.get_all_start_methods() else None
-    with ProcessPoolExecutor(max_workers=min(workers, total), mp_context=context,
-                             initializer=_init_worker, initargs=(checked, settings, project_dir, pdfa)) as pool:
+    count = max(1, min(workers, total))
+    wave = count * SHEETS_PER_PROCESS
+    for start in range(0, total, wave):
+        _render_wave(jobs[start:start + wave], count, context, (checked, settings, project_dir, pdfa), result, finished)
+
+
+def _warm_up() -> None:
+    """Import weasyprint and lay out one line in this process before forking, so that every
+    worker starts with the fonts already found."""
+    from loopdocs.render.pdf import html_to_pdf, quiet_weasyprint
+
+    quiet_weasyprint()
+    html_to_pdf("<p>loopdocs</p>")
+
+
+def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, result: BuildResult,
+                 finished: Callable[[Job, float], None]) -> None:
+    """One pool of ``count`` fresh worker processes for ``jobs`` (each worker renders about
+    ``SHEETS_PER_PROCESS`` sheets, then the pool is shut down: the C libraries under
+    weasyprint keep about 0.25 MB per sheet rendered, so long-lived workers would grow
+    with the number of loops)."""
+    with ProcessPoolExecutor(max_workers=count, mp_context=context, initializer=_init_worker, initargs=initargs) as pool:
         pending: dict[Future, Job] = {pool.submit(render_job, job): job for job in jobs}
         try:
             while pending:

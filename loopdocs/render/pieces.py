@@ -59,11 +59,13 @@ def loop_project(project: Project, loop_id: str, state: MutableMapping[str, Any]
     return project.model_copy(update={"tags": tags, "loops": loops})
 
 
-def loop_calibrations(project: Project, loop_id: str, state: MutableMapping[str, Any]) -> list[Any]:
-    """Calibration tables (``CalibrationTable``) of the loop's tags, measurement first."""
+def loop_calibrations(project: Project, loop_id: str, state: MutableMapping[str, Any],
+                      part: Project | None = None) -> list[Any]:
+    """Calibration tables (``CalibrationTable``) of the loop's tags, measurement first
+    (``part``: the loop's :func:`loop_project`, when already made)."""
     from loopdocs.calibration import calibration_set
 
-    part = loop_project(project, loop_id, state)
+    part = part or loop_project(project, loop_id, state)
     tables = [t for t in calibration_set(part).tables
               if (t.loop or (part.tags[t.tag].loop if t.tag in part.tags else "")) == loop_id]
     return sorted(tables, key=lambda t: _kind_rank(t.kind))
@@ -84,20 +86,26 @@ def loop_groups(project: Project, loop_id: str, splits: Sequence[Any]) -> list[A
 def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any],
                 state: MutableMapping[str, Any]) -> tuple[SheetPieces, dict[str, Any]]:
     """The sheet pieces of ``loop_id`` and the JSON record that travels with the sheet
-    (attached in PDF/A mode)."""
-    from loopdocs.render.build import loop_record
+    (attached in PDF/A mode).
 
+    Diagram, range charts and calibration tables are made from the loop's part of the
+    project (:func:`loop_project`): the same drawings and tables as from the whole
+    project (tested), at the cost of one loop, and without rebuilding the whole
+    project's split groups for every sheet (``groups_for`` keeps the last project only).
+    """
     from loopdocs.draw.export import loop_charts, loop_diagram_svg
+    from loopdocs.render.build import loop_record
 
     loop = project.loops[loop_id]
     tags = project.tags_of(loop_id)
     groups = loop_groups(project, loop_id, splits)
-    calibrations = loop_calibrations(project, loop_id, state)
+    part = loop_project(project, loop_id, state)
+    calibrations = loop_calibrations(project, loop_id, state, part)
     pieces = SheetPieces(
         loop=loop,
         tags=tags,
-        diagram_svg=loop_diagram_svg(project, loop_id),
-        range_charts_svg=tuple(svg for _, svg in loop_charts(project, loop_id, findings)),
+        diagram_svg=loop_diagram_svg(part, loop_id),
+        range_charts_svg=tuple(svg for _, svg in loop_charts(part, loop_id, findings)),
         calibrations=calibrations,
         findings=findings,
     )
