@@ -26,10 +26,9 @@ def build(
 ) -> None:
     """Render one loop sheet per loop and join them into one bookmarked package.
 
-    Sheets whose records, findings, config and templates did not change since the last
-    build are reused from the output folder. Exit code 0 when no error was found, 1 when
-    an error was found (those sheets are marked NOT FOR CONSTRUCTION), 2 when the input
-    could not be read, 3 when rendering could not complete.
+    Sheets whose records, findings, config and templates did not change since the last build are reused from the output folder (OUT/loops/LOOP.pdf, package OUT/loop-sheets.pdf).
+
+    Exit code 0 when no error was found, 1 when an error was found (those sheets are marked NOT FOR CONSTRUCTION), 2 when the input could not be read, 3 when rendering could not complete.
     """
     from rich.console import Console
 
