@@ -72,7 +72,7 @@ def test_example_package_has_every_loop_in_order_with_bookmarks(example_build):
     loops = list(check_project(EXAMPLE).project.loops)
     assert result.rendered and sorted(result.rendered) == sorted(loops) and result.reused == []
     package = PdfReader(result.package, strict=True)
-    front_pages = complete_pdf(result.out_dir / CACHE_DIR_NAME / "front.pdf")
+    front_pages = complete_pdf(result.out_dir / CACHE_DIR_NAME / "front-0.pdf")
     sheet_pages = [complete_pdf(result.loop_files[loop]) for loop in loops]
     assert len(package.pages) == result.package_pages == front_pages + sum(sheet_pages)
     marks = [(o.title, package.get_destination_page_number(o)) for o in package.outline]
@@ -93,7 +93,7 @@ def test_example_package_metadata_and_drawing_list(example_build):
     assert meta.author == "loopdocs"  # [title_block] drawn, no [sheet] author in the example
     assert "revision A" in meta.subject and "11 sheets" in meta.subject
     assert "loop sheets" in meta["/Keywords"] and "Brewhouse and utilities" in meta["/Keywords"]
-    front = "\n".join(p.extract_text() for p in PdfReader(example_build.out_dir / CACHE_DIR_NAME / "front.pdf").pages)
+    front = "\n".join(p.extract_text() for p in PdfReader(example_build.out_dir / CACHE_DIR_NAME / "front-0.pdf").pages)
     assert "DRAWING LIST" in front.upper()
     for number, loop in enumerate(example_build.loop_files, start=1):
         assert re.search(rf"\b{number}\s+KCB-LS-{re.escape(loop)}\s+{re.escape(loop)}\b", front), loop
@@ -216,7 +216,7 @@ def test_markup_and_paths_in_the_index_stay_text_and_file_names_stay_safe(tmp_pa
     out = tmp_path / "out"
     result = build(project, out, workers=1)
     files = sorted(p.relative_to(out).as_posix() for p in out.rglob("*.pdf"))
-    assert files == sorted([".loopdocs-cache/front.pdf", PACKAGE_NAME,
+    assert files == sorted([".loopdocs-cache/front-0.pdf", PACKAGE_NAME,
                             f"loops/{safe_filename('../../etc/passwd')}.pdf", f"loops/{safe_filename('<b>CON</b>')}.pdf"])
     assert not (tmp_path / "etc").exists()
     for path in result.loop_files.values():

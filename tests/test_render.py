@@ -418,3 +418,16 @@ def test_join_memory_does_not_hold_the_sources():
     assert join.page_count == 200
     assert all(isinstance(n, int) for n in join._offsets)
     assert len(PdfReader(io.BytesIO(out.getvalue())).outline) == 200
+
+
+def test_drawing_list_is_laid_out_in_parts(example):
+    # A list of thousands of rows is rendered in parts (memory flat); the cover comes once.
+    from loopdocs.render.package import ListRow, front_html
+
+    rows = [ListRow(n, f"D-{n}", f"T-{n}", f"service {n}", "A") for n in range(1, 601)]
+    settings = sheet_settings({})
+    first = front_html(example.project.config.title_block, settings, rows, first=0, count=250)
+    second = front_html(example.project.config.title_block, settings, rows, first=250, count=250)
+    assert 'class="cover"' in first and 'class="cover"' not in second
+    assert "(continued)" in second and ">T-251<" in second and ">T-250<" not in second and ">T-501<" not in second
+    assert "<td>600</td>" in first  # the cover counts every sheet

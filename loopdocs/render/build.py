@@ -51,7 +51,7 @@ from loopdocs.starter import atomic_write
 
 PACKAGE_NAME = "loop-sheets.pdf"
 LOOPS_DIR = "loops"
-FRONT_CACHE = "front.pdf"
+FRONT_CACHE = "front-{part}.pdf"
 FRAGMENTS_DIR = "fragments"
 SHEETS_PER_PROCESS = 100
 """Sheets a worker process renders before it is replaced (memory stays flat)."""
@@ -385,7 +385,7 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
              findings_by_loop: dict[str, list[Finding]], all_loops: list[str], keys: dict[str, str],
              result: BuildResult, manifest: Manifest, pdfa: bool, project_dir: Path) -> None:
     """Front matter (cached by content) and the joined package (rejoined when any part changed)."""
-    from loopdocs.render.package import ListRow, front_html, write_package
+    from loopdocs.render.package import LIST_ROWS_PER_PART, ListRow, front_html, write_package
 
     tb = project.config.title_block
     revision = current_revision(tb, settings)
@@ -401,15 +401,24 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
         "title_block": tb.model_dump(mode="json"), "sheet": settings.model_dump(mode="json"),
         "environment": environment_digest(TEMPLATES_DIR, None, SOURCE_DIR),
     })
-    front_path = result.out_dir / CACHE_DIR_NAME / FRONT_CACHE
-    if not manifest.artefact_fresh("front", front_key):
+    front_paths = []
+    for part, first in enumerate(range(0, max(1, len(rows)), LIST_ROWS_PER_PART)):
+        path = result.out_dir / CACHE_DIR_NAME / FRONT_CACHE.format(part=part)
+        front_paths.append(path)
+        key = digest_json({"front": front_key, "part": part})
+        if manifest.artefact_fresh(f"front-{part}", key):
+            continue
         from loopdocs.render.pdf import html_to_pdf
 
-        html = front_html(tb, settings, rows, open_errors=counts.error, open_warnings=counts.warning, accepted=counts.accepted)
+        html = front_html(tb, settings, rows, open_errors=counts.error, open_warnings=counts.warning,
+                          accepted=counts.accepted, first=first, count=LIST_ROWS_PER_PART)
         pdf = html_to_pdf(html, allowed_dirs=[project_dir], pdfa=pdfa)
-        atomic_write(front_path, lambda tmp: (tmp.write_bytes(pdf), shareable(tmp)))
-        manifest.record_artefact("front", front_key, front_path)
+        atomic_write(path, lambda tmp: (tmp.write_bytes(pdf), shareable(tmp)))
+        manifest.record_artefact(f"front-{part}", key, path)
         result.front_rendered = True
+    for stale in set(manifest.artefacts) - {f"front-{i}" for i in range(len(front_paths))} - {"package"}:
+        entry = manifest.artefacts.pop(stale)
+        (result.out_dir / entry.file).unlink(missing_ok=True)
 
     package_path = result.out_dir / PACKAGE_NAME
     package_key = digest_json({"front": front_key, "loops": [keys[l] for l in all_loops], "pdfa": pdfa})
@@ -418,9 +427,9 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
         return
     sheets = [(result.loop_files[l], _bookmark(l, project.loops[l].service)) for l in all_loops]
     fragments = result.out_dir / CACHE_DIR_NAME / FRAGMENTS_DIR
-    result.package_pages = write_package(package_path, front_path, sheets, title_block=tb, settings=settings,
+    result.package_pages = write_package(package_path, front_paths, sheets, title_block=tb, settings=settings,
                                          pdfa=pdfa, fragment_dir=fragments)
-    _prune_fragments(fragments, [front_path, *(p for p, _ in sheets)])
+    _prune_fragments(fragments, [*front_paths, *(p for p, _ in sheets)])
     manifest.record_artefact("package", package_key, package_path)
 
 

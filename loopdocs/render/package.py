@@ -47,9 +47,17 @@ def document_keywords(title_block: TitleBlock) -> list[str]:
     return words + [w for w in (title_block.client, title_block.unit) if w]
 
 
+LIST_ROWS_PER_PART = 250
+"""Drawing-list rows laid out per document: a list of thousands of rows is rendered in
+parts (the first with the cover sheet), so that memory does not grow with the number of
+loops."""
+
+
 def front_html(title_block: TitleBlock, settings: SheetSettings, rows: Sequence[ListRow], *,
-               open_errors: int = 0, open_warnings: int = 0, accepted: int = 0) -> str:
-    """Cover sheet and drawing list of the package (pure)."""
+               open_errors: int = 0, open_warnings: int = 0, accepted: int = 0,
+               first: int = 0, count: int | None = None) -> str:
+    """Cover sheet and drawing list of the package (pure). ``first`` and ``count`` select
+    the part of the list to lay out; the cover sheet comes with the part that starts at 0."""
     from markupsafe import Markup
 
     revision = current_revision(title_block, settings)
@@ -63,7 +71,9 @@ def front_html(title_block: TitleBlock, settings: SheetSettings, rows: Sequence[
         "keywords": ", ".join(document_keywords(title_block)),
         "revision": revision,
         "revisions": revisions(title_block, settings),
-        "rows": rows,
+        "rows": rows[first:None if count is None else first + count],
+        "cover": first == 0,
+        "continued": first > 0,
         "sheet_count": len(rows),
         "not_for_construction": sum(1 for r in rows if r.not_for_construction),
         "released": sum(1 for r in rows if r.released_with_errors),
@@ -105,11 +115,11 @@ def cached_fragment(pdf: Path, fragment_dir: Path | None):
     return fragment
 
 
-def write_package(path: Path, front_pdf: Path, sheets: Sequence[tuple[Path, str]], *,
+def write_package(path: Path, front_pdfs: Sequence[Path], sheets: Sequence[tuple[Path, str]], *,
                   title_block: TitleBlock, settings: SheetSettings, pdfa: bool = False,
                   fragment_dir: Path | None = None) -> int:
-    """Join the front matter and the sheets (``(pdf path, bookmark title)`` in loop order)
-    into ``path``; returns the page count. With ``fragment_dir`` each source is parsed
+    """Join the front matter (its parts in order) and the sheets (``(pdf path, bookmark
+    title)`` in loop order) into ``path``; returns the page count. With ``fragment_dir`` each source is parsed
     once and kept there as a fragment for the next join."""
     from loopdocs.render.files import shareable
     from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
@@ -128,7 +138,9 @@ def write_package(path: Path, front_pdf: Path, sheets: Sequence[tuple[Path, str]
         nonlocal pages
         with open(tmp, "wb") as out:
             join = PdfJoin(out, info, pdfa=pdfa)
-            join.add(cached_fragment(Path(front_pdf), fragment_dir), bookmark="Cover sheet and drawing list")
+            for index, front_pdf in enumerate(front_pdfs):
+                join.add(cached_fragment(Path(front_pdf), fragment_dir),
+                         bookmark="Cover sheet and drawing list" if index == 0 else None)
             for sheet_path, title in sheets:
                 join.add(cached_fragment(Path(sheet_path), fragment_dir), bookmark=title)
             join.close()
