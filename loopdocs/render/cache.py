@@ -26,6 +26,7 @@ from pathlib import Path
 from typing import Any
 
 from loopdocs import __version__
+from loopdocs.render.files import shareable
 from loopdocs.starter import atomic_write
 
 CACHE_DIR_NAME = ".loopdocs-cache"
@@ -143,4 +144,9 @@ class Manifest:
             "artefacts": {k: vars(e) for k, e in sorted(self.artefacts.items())},
         }
         text = json.dumps(data, indent=1, sort_keys=True)
-        atomic_write(self.path, lambda tmp: tmp.write_text(text, encoding="utf-8"))
+
+        def write(tmp: Path) -> None:
+            tmp.write_text(text, encoding="utf-8")
+            shareable(tmp)
+
+        atomic_write(self.path, write)
