@@ -359,18 +359,29 @@ def test_air_and_fail_that_agree(index_files, air, fail):
 # --------------------------------------------------------------------------- valve.signal-loss
 
 
-def test_reverse_positioner_opens_on_signal_loss(index_files):
-    # ATO with a reverse positioner: u = 0 -> s = 1 -> open, though the spring closes it (FC).
+def test_reverse_pneumatic_positioner_opens_on_signal_loss(index_files):
+    # ATO with a reverse pneumatic positioner: the 3-15 psig signal falls to zero, u = 0 ->
+    # s = 1 -> open, though the spring closes it (FC). IEC 60382: 3-15 psig live zero.
     rows = [{"tag": "FV-402", "air_action": "ATO", "fail_position": "FC", "positioner_action": "reverse",
-             "signal": "4-20 mA"}]
+             "signal": "3-15 psig"}]
     f = only(index_files.check(rows), "valve.signal-loss")
     assert (f.severity.value, f.tags, index_files.where(f)) == (
         "warning", ("FV-402",), index_files.cell("positioner_action", 0))
-    assert "goes open when its input signal is lost (below 4 mA)" in f.message
+    assert "goes open when its pneumatic signal falls to zero (below 3 psig)" in f.message
+
+
+def test_reverse_electronic_positioner_goes_to_its_spring_position(index_files):
+    # A two-wire 4-20 mA positioner loses its power with its signal and vents: the spring
+    # closes an ATO valve whatever the positioner's action (common practice).
+    rows = [{"tag": "FV-402", "air_action": "ATO", "fail_position": "FC", "positioner_action": "reverse",
+             "signal": "4-20 mA"}]
+    assert of(index_files.check(rows), "valve.signal-loss") == []
 
 
 def test_reversed_input_range_closes_an_fo_valve_on_signal_loss(index_files):
-    rows = [FIC, single(air_action="ATC", fail_position="FO", input_low=20, input_high=4)]
+    # Pneumatic positioner set 15 to 3 psig (reversed): zero signal is u = 1 -> ATC closes, against FO.
+    rows = [FIC, single(signal="3-15 psig", air_action="ATC", fail_position="FO", input_low=15, input_high=3,
+                        input_units="psig")]
     f = only(index_files.check(rows), "valve.signal-loss")
     assert (f.severity.value, f.tags, index_files.where(f)) == ("warning", ("FV-101",), index_files.cell("input_low", 1))
 

@@ -341,25 +341,42 @@ def max_travel_error(
 # --------------------------------------------------------------------------- failure positions
 
 
+#: What carries the signal to a valve's positioner: a 4-20 mA loop or air (3-15 psig, 20-100 kPa).
+SIGNAL_KINDS = ("electronic", "pneumatic")
+
+
 def travel_on_signal_loss_pct(
     air_action: str,
     positioner_action: str,
     input_low: float | None = None,
     input_high: float | None = None,
+    signal_kind: str = "pneumatic",
 ) -> float:
-    """Travel, %, when the input signal is lost (below span low, DESIGN §3.3).
+    """Travel, %, when the input signal is lost (DESIGN §3.3).
 
-    With ``u = 0``: ATO direct 0, ATO reverse 100, ATC direct 100, ATC reverse 0.
-    When the input range is given and reversed (``input_low > input_high``), a signal
-    below both ends gives ``u = 1`` under the same formula, and the result flips.
-    This is the pneumatic-positioner picture; a loop-powered digital positioner loses
-    its supply below about 3.6 mA and vents to the spring position instead
-    (:func:`spring_fail_travel_pct`) (from memory).
+    ``signal_kind`` ``electronic``: a two-wire, loop-powered positioner (4-20 mA) loses
+    its power with its signal, its output vents and the spring takes the valve to its
+    fail position whatever the positioner's action: :func:`spring_fail_travel_pct`
+    (common practice: a loop-powered positioner cannot drive its output without loop
+    current).
+
+    ``signal_kind`` ``pneumatic`` (an I/P or pneumatic controller output, 3-15 psig,
+    20-100 kPa): the signal falls to zero, below the live zero, so ``u = 0``: ATO
+    direct 0, ATO reverse 100, ATC direct 100, ATC reverse 0. When the input range is
+    given and reversed (``input_low > input_high``), a signal below both ends gives
+    ``u = 1`` under the same formula, and the result flips.
 
     >>> travel_on_signal_loss_pct("ATO", "direct"), travel_on_signal_loss_pct("ATO", "reverse")
     (0.0, 100.0)
+    >>> travel_on_signal_loss_pct("ATO", "reverse", signal_kind="electronic")
+    0.0
     """
     air, pos = _norm_air(air_action), _norm_positioner(positioner_action)
+    kind = str(signal_kind).strip().lower()
+    if kind not in SIGNAL_KINDS:
+        raise ValueError(f"signal kind must be one of {', '.join(SIGNAL_KINDS)}, got {signal_kind!r}")
+    if kind == "electronic":
+        return spring_fail_travel_pct(air)
     u = 0.0
     if input_low is not None and input_high is not None and input_low > input_high:
         u = 1.0
