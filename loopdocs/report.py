@@ -125,13 +125,18 @@ def print_splits(console: Any, checked: Checked) -> None:
         for first, second, relation in group.pairs:
             if relation.overlap_pct > 0.01 and relation.ranges != "shared":
                 notes.append(f"{first.tag} and {second.tag} overlap by {fmt_pct(relation.overlap_pct)} % CO")
-        if group.recommended_boundaries_pct is not None:
-            ratios = ", ".join(f"{r:.2f}" for r in group.gain_ratios or ())
-            notes.append(
-                "boundaries in proportion to Cv: "
-                + ", ".join(f"{fmt_pct(b)} %" for b in group.recommended_boundaries_pct)
-                + (f"; gain ratio across each boundary now: {ratios}" if ratios else "")
-            )
+        advice = group.capacity_advice
+        if advice is not None:
+            ratios = ", ".join(f"{r:.2f}" for r in advice.ratios_now)
+            if advice.recommended_pct is not None:
+                kind = "in proportion to Cv" if advice.is_proportional else "recommended (smallest gain change)"
+                text = f"boundaries {kind}: " + ", ".join(f"{fmt_pct(b)} %" for b in advice.recommended_pct)
+                text += f"; gain ratio across each boundary now: {ratios}"
+                if advice.improves:
+                    text += ", with these: " + ", ".join(f"{r:.2f}" for r in advice.best_ratios)
+            else:
+                text = f"no boundaries do better than the ones set; gain ratio across each boundary now: {ratios}"
+            notes.append(text)
         if notes:
             table.caption = "; ".join(notes)
             table.caption_justify = "left"

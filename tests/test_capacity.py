@@ -156,3 +156,122 @@ def test_combined_capacity_curve_for_a_range_chart():
     assert [co for co, _ in curve] == [0.0, 30.0, 60.0, 90.0, 100.0]
     assert curve[-1][1] == pytest.approx(10.0)
     assert curve[2][1] == pytest.approx(10 * 50 ** (0.6 - 1))
+
+
+# --------------------------------------------------------------------------- capacity advice
+# The gain model (DESIGN §3.3): gain = dCv/dCO = Cv * df/dx * dx/dCO with the inherent
+# curve f (linear f = x; equal-percentage f = R^(x-1), IEC 60534-1 / ISA-75.11.01 inherent
+# characteristic, from memory); across a boundary the element before is full open, the
+# next just cracked. The score is the largest jump max(r, 1/r) over the boundaries.
+
+from loopdocs.calc.capacity import (  # noqa: E402
+    MIN_SEGMENT_PCT,
+    best_boundaries_pct,
+    capacity_advice,
+    largest_gain_jump,
+    staged_segments,
+)
+
+
+def _staged_from_edges(edges):
+    return [Intent(edges[k], edges[k + 1], 0, 100) for k in range(len(edges) - 1)]
+
+
+@st.composite
+def staged_groups(draw):
+    n = draw(st.integers(min_value=2, max_value=4))
+    cvs = draw(st.lists(st.floats(min_value=0.5, max_value=500), min_size=n, max_size=n))
+    chars = draw(st.lists(st.sampled_from(["linear", "equal-percentage", "quick-opening"]), min_size=n, max_size=n))
+    ranges = draw(st.lists(st.floats(min_value=5, max_value=100), min_size=n, max_size=n))
+    cuts = sorted(draw(st.lists(st.floats(min_value=1, max_value=99), min_size=n - 1, max_size=n - 1, unique=True)))
+    if any(b - a < 0.5 for a, b in zip([0.0, *cuts], [*cuts, 100.0])):
+        cuts = [100.0 * (k + 1) / n for k in range(n - 1)]
+    # optional gap or overlap at each boundary, as found in real indexes
+    shifts = draw(st.lists(st.floats(min_value=-0.4, max_value=0.4), min_size=n - 1, max_size=n - 1))
+    edges = [0.0, *cuts, 100.0]
+    intents = []
+    for k in range(n):
+        start = edges[k] + (shifts[k - 1] if k > 0 else 0.0)
+        intents.append(Intent(start, edges[k + 1], 0, 100))
+    return cvs, chars, ranges, intents
+
+
+@hyp_settings(max_examples=150, deadline=None)
+@given(staged_groups())
+def test_recommendation_never_scores_worse_than_the_settings(group):
+    # Scored independently here with gain_ratios (the model above) on both sides.
+    cvs, chars, ranges, intents = group
+    advice = capacity_advice(cvs, intents, chars, ranges)
+    now = largest_gain_jump(gain_ratios(cvs, intents, chars, ranges))
+    assert advice.jump_now == pytest.approx(now)
+    if advice.recommended_pct is not None:
+        segments = staged_segments(advice.recommended_pct)
+        assert all(s.co_end_pct > s.co_start_pct for s in segments)
+        recommended = largest_gain_jump(gain_ratios(cvs, segments, chars, ranges))
+        assert recommended <= now * (1 + 1e-9)
+        assert list(advice.best_ratios) == pytest.approx(gain_ratios(cvs, segments, chars, ranges))
+
+
+def test_three_equal_percentage_valves_get_better_boundaries_than_the_settings():
+    # Cv 10/60/250, equal-percentage R = 50, set at 33.33/66.67 % CO. By hand: the ratio
+    # across a boundary is (Cv_next ln R / R / w_next) / (Cv_prev ln R / w_prev)
+    # = Cv_next w_prev / (R Cv_prev w_next): 60/(50*10) = 0.12 and 250/(50*60) = 0.0833 now.
+    cvs, edges = [10, 60, 250], [0, 100 / 3, 200 / 3, 100]
+    advice = capacity_advice(cvs, _staged_from_edges(edges), "equal-percentage", 50)
+    assert advice.ratios_now == pytest.approx((0.12, 250 / 3000))
+    assert advice.jump_now == pytest.approx(12.0)
+    # The cumulative-Cv boundaries (3.125 and 21.875 %) are worse: both ratios 1/R = 0.02.
+    assert largest_gain_jump(gain_ratios(cvs, staged_segments(advice.proportional_pct), "equal-percentage", 50)) == \
+        pytest.approx(50.0)
+    # Best with every segment at least 10 % CO wide, by hand: the last segment takes the
+    # minimum, w3 = 10, and both ratios are equal: 0.12 w1/w2 = (250/3000) w2/10 with
+    # w1 = 90 - w2, so w2^2 + 14.4 w2 - 1296 = 0 and the jump is 120 / w2.
+    w2 = (-14.4 + math.sqrt(14.4**2 + 4 * 1296)) / 2
+    assert MIN_SEGMENT_PCT == 10.0
+    assert advice.recommended_pct == pytest.approx((90 - w2, 90.0), abs=0.02)
+    assert advice.jump_best == pytest.approx(120 / w2, rel=1e-3)
+    assert advice.jump_best < advice.jump_now and advice.improves
+    # Still outside 0.5 to 2: linear trims would give 1 at the cumulative-Cv boundaries.
+    assert advice.jump_best > 2.0 and advice.linear_jump == pytest.approx(1.0)
+
+
+def test_linear_trims_keep_the_cumulative_cv_rule():
+    # Cv 10 and 30 split at 25 % (cumulative Cv, common practice): ratio 1 and recommended,
+    # whether the settings are at 50 % or already at 25 %.
+    for boundary in (50.0, 25.0):
+        advice = capacity_advice([10, 30], _staged_from_edges([0, boundary, 100]), "linear")
+        assert advice.recommended_pct == pytest.approx((25.0,))
+        assert advice.is_proportional and advice.jump_best == pytest.approx(1.0)
+    assert best_boundaries_pct([10, 20, 70], "linear")[0] == pytest.approx([10.0, 30.0])
+
+
+def test_settings_better_than_any_boundary_set_found_are_kept():
+    # Equal-percentage Cv 10/30, R = 50, set at 95 %: ratio = 30*95/(50*10*5) = 1.14 by the
+    # formula above. The search keeps segments at least 10 % CO wide and finds 90 % (1.85):
+    # worse than the settings, so nothing is recommended.
+    advice = capacity_advice([10, 30], _staged_from_edges([0, 95, 100]), "equal-percentage", 50)
+    assert advice.ratios_now == pytest.approx((30 * 95 / (50 * 10 * 5),))
+    assert advice.best_pct == pytest.approx((90.0,)) and advice.jump_best == pytest.approx(1 / (30 * 90 / 5000))
+    assert advice.recommended_pct is None and not advice.improves
+    # Quick-opening next valve: slope unbounded when cracked, so no boundary helps.
+    qo = capacity_advice([10, 30], _staged_from_edges([0, 25, 100]), ["linear", "quick-opening"])
+    assert math.isinf(qo.jump_now) and qo.recommended_pct is None
+
+
+def test_advice_agrees_with_fluids_measured_equal_percentage_trim():
+    # Cross-check with fluids.control_valve.Cv_char_equal_percentage (a manufacturer's
+    # measured trim, not the ideal law): end slopes over the first and last 10 % of
+    # travel. With it too the cumulative-Cv boundary of Cv 10/30 (25 %) jumps by more than
+    # 2, and the boundary recommended with the ideal law (90 %) is closer to even gain.
+    advice = capacity_advice([10, 30], _staged_from_edges([0, 25, 100]), "equal-percentage", 50)
+    (boundary,) = advice.recommended_pct
+    assert boundary == pytest.approx(90.0)
+    top = (Cv_char_equal_percentage(1.0) - Cv_char_equal_percentage(0.9)) / 0.1
+    bottom = (Cv_char_equal_percentage(0.1) - Cv_char_equal_percentage(0.0)) / 0.1
+
+    def measured_jump(b):
+        ratio = (30 * bottom / (100 - b)) / (10 * top / b)
+        return max(ratio, 1 / ratio)
+
+    assert measured_jump(25.0) > 2.0
+    assert measured_jump(boundary) < measured_jump(25.0)

@@ -336,7 +336,48 @@ def test_equal_percentage_boundary_with_default_rangeability(index_files):
     # capacity-proportional boundary the gain falls to 1/R = 1/50 (R blank: 50).
     f = only(index_files.check(staged(boundary=25, characteristic="equal-percentage")), "split.capacity")
     assert " is 0.02," in f.message
+    # best single boundary with segments >= 10 % CO: 90 %, ratio 30*90/(50*10*10) = 0.54
+    assert "recommended boundaries 90 % (largest gain change across a boundary: factor 1.85 there, 50.00 now" in f.message
     assert "Rangeability blank, taken as 50" in f.message
+
+
+def _three_stage(edges, cvs=(10, 60, 250), characteristic="equal-percentage") -> list[dict]:
+    rows = [{"tag": "LIC-201", "platform": "dcs", "signal": "4-20 mA", "control_action": "reverse"}]
+    for k, suffix in enumerate("ABC"):
+        rows.append({"tag": f"LV-201{suffix}", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+                     "positioner_action": "direct", "driven_by": "LIC-201", "split_method": "dcs",
+                     "co_start_pct": edges[k], "co_end_pct": edges[k + 1], "travel_start_pct": 0,
+                     "travel_end_pct": 100, "input_low": 4, "input_high": 20, "input_units": "mA",
+                     "effect": "raises", "cv": cvs[k], "characteristic": characteristic, "rangeability": 50,
+                     "io_address": f"AO-{suffix}"})
+    return rows
+
+
+def test_equal_percentage_staging_is_never_advised_worse(index_files):
+    # Cv 10/60/250, equal-percentage R = 50, set at 33.33/66.67 %: ratios 0.12 and 0.083
+    # (Cv_next w_prev / (R Cv_prev w_next), IEC 60534-1 inherent law). Cumulative-Cv boundaries
+    # (3.13, 21.88 %) would give 1/R = 0.02 at both: worse, so they are not recommended.
+    from loopdocs.calc.capacity import gain_ratios, largest_gain_jump, staged_segments
+
+    result = index_files.check(_three_stage([0, 33.33, 66.67, 100]))
+    group = result.splits[0]
+    recommended = group.recommended_boundaries_pct
+    jump = largest_gain_jump(gain_ratios([10, 60, 250], staged_segments(recommended), "equal-percentage", 50))
+    assert jump < largest_gain_jump(group.gain_ratios) == pytest.approx(12.0, rel=1e-3)
+    found = of(result, "split.capacity")
+    assert [f.tags for f in found] == [("LV-201A", "LV-201B"), ("LV-201B", "LV-201C")]
+    text = found[0].message
+    assert "recommended boundaries 60.48, 90 %" in text and "factor 4.07 there, 12.00 now" in text
+    # no boundaries bring it within 0.5 to 2: say what does, with the figures
+    assert "no boundary setting keeps every ratio within the band" in text
+    assert "linear trims on the staged valves (factor 1.00" in text and "deliberate overlap" in text
+
+
+def test_best_equal_percentage_staging_says_what_helps(index_files):
+    found = of(index_files.check(_three_stage([0, 60.4844, 90, 100])), "split.capacity")
+    assert len(found) == 2
+    assert "no boundary setting does better than the one set" in found[0].message
+    assert "linear trims on the staged valves" in found[0].message
 
 
 # --------------------------------------------------------------------------- valve.air-fail

@@ -8,6 +8,7 @@ IEC 60534-1 (flow coefficient against travel at constant differential pressure).
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 from typing import Sequence
 
 from loopdocs.calc.signals import clamp01
@@ -16,6 +17,9 @@ from loopdocs.calc.split import Intent, intended_travel_pct
 CHARACTERISTICS = ("linear", "equal-percentage", "quick-opening")
 #: Inherent rangeability assumed for equal-percentage trim when none is given (common practice).
 DEFAULT_RANGEABILITY = 50.0
+#: Narrowest CO segment the boundary search gives one element, % CO: a valve stroked
+#: over less than this leaves its positioner too little signal to resolve (common practice).
+MIN_SEGMENT_PCT = 10.0
 
 _ALIASES = {
     "linear": "linear",
@@ -154,8 +158,13 @@ def _as_intent(segment: Intent | tuple[float, float]) -> Intent:
 def _gain_per_pct(cv: float, intent: Intent, travel_pct: float, characteristic: str, rangeability: float) -> float:
     """``|dCv/dCO|`` in Cv per % CO at the given travel on the intent's segment."""
     travel_change_pct = abs(intent.travel_end_pct - intent.travel_start_pct)
-    cv_per_pct = cv * travel_change_pct / (100.0 * (intent.co_end_pct - intent.co_start_pct))
-    return cv_per_pct * inherent_slope(travel_pct / 100.0, characteristic, rangeability)
+    return _segment_gain_per_pct(cv, travel_change_pct, intent.co_end_pct - intent.co_start_pct,
+                                 inherent_slope(travel_pct / 100.0, characteristic, rangeability))
+
+
+def _segment_gain_per_pct(cv: float, travel_change_pct: float, width_pct: float, slope: float) -> float:
+    """``Cv * (travel change / 100) / width * df/dx``: Cv per % CO on a segment ``width_pct`` wide."""
+    return cv * travel_change_pct / (100.0 * width_pct) * slope
 
 
 def gain_ratios(
@@ -240,3 +249,208 @@ def combined_capacity_curve(
         )
         curve.append((float(co), total))
     return curve
+
+
+# --------------------------------------------------------------------------- capacity advice
+
+
+def largest_gain_jump(ratios: Sequence[float]) -> float:
+    """How much the gain changes across the worst boundary: ``max(max(r, 1/r))`` over the
+    gain ratios ``r`` (1 = no jump; a ratio of 0.25 and one of 4 are both a jump of 4).
+    A ratio of 0, infinity or NaN is an unbounded jump (``inf``); no boundary gives 1.
+
+    >>> largest_gain_jump([0.25, 2.0])
+    4.0
+    """
+    worst = 1.0
+    for r in ratios:
+        if not (math.isfinite(r) and r > 0.0):
+            return math.inf
+        worst = max(worst, r, 1.0 / r)
+    return worst
+
+
+def staged_segments(boundaries_pct: Sequence[float]) -> list[Intent]:
+    """The intents of a staged group with these interior boundaries: element k strokes
+    0 to 100 % travel from boundary k-1 (or CO 0) to boundary k (or CO 100).
+
+    >>> [(i.co_start_pct, i.co_end_pct) for i in staged_segments([25.0])]
+    [(0.0, 25.0), (25.0, 100.0)]
+    """
+    edges = [0.0, *(float(b) for b in boundaries_pct), 100.0]
+    return [Intent(edges[k], edges[k + 1], 0.0, 100.0) for k in range(len(edges) - 1)]
+
+
+def _grid_step_pct(free_pct: float, boundaries: int) -> float:
+    """Coarse step, % CO, so that the grid holds at most about 20 000 boundary sets."""
+    for step in (0.5, 1.0, 2.0, 2.5, 5.0, 10.0, 20.0):
+        if math.comb(int(free_pct / step) + boundaries, boundaries) <= 20_000:
+            return step
+    return max(free_pct / 4.0, 1.0)
+
+
+def best_boundaries_pct(
+    cvs: Sequence[float],
+    characteristic: str | Sequence[str] = "linear",
+    rangeability: float | Sequence[float] = DEFAULT_RANGEABILITY,
+    min_segment_pct: float = MIN_SEGMENT_PCT,
+) -> tuple[list[float], float]:
+    """Interior boundaries, % CO, of a staged group (each element 0 to 100 % travel over
+    its segment) that make the largest gain jump (:func:`largest_gain_jump` of
+    :func:`gain_ratios`) smallest, and that jump.
+
+    The gain at a boundary is ``Cv * df/dx / width`` (Cv per % CO) with the slope of the
+    inherent curve (:func:`inherent_slope`: linear 1, equal-percentage
+    ``ln(R) * R^(x-1)``, IEC 60534-1), the element before at full travel, the one after
+    just cracked. Candidates: the cumulative-Cv boundaries (:func:`recommended_boundaries_pct`,
+    exact for linear trims), and a bounded grid search over boundary positions with every
+    segment at least ``min_segment_pct`` wide (coarse grid, then finer local grids down to
+    0.01 % CO). Ties go to the cumulative-Cv boundaries.
+
+    >>> b, jump = best_boundaries_pct([10, 30], "linear")
+    >>> [round(x, 6) for x in b], round(jump, 6)
+    ([25.0], 1.0)
+    >>> b, jump = best_boundaries_pct([10, 30], "equal-percentage", 50)
+    >>> [round(x, 2) for x in b], round(jump, 3)
+    ([90.0], 1.852)
+    """
+    values = _check_cvs(cvs)
+    n = len(values)
+    if n < 2:
+        return [], 1.0
+    chars = _per_element(characteristic, n, "characteristic")
+    ranges = _per_element(rangeability, n, "rangeability")
+    proportional = recommended_boundaries_pct(values)
+    proportional_jump = largest_gain_jump(gain_ratios(values, staged_segments(proportional), chars, ranges))
+    if proportional_jump <= 1.0 + 1e-9:
+        return proportional, proportional_jump
+    # gains of a segment 1 % CO wide, full travel: at its top (before a boundary) and bottom (after one)
+    top = [_segment_gain_per_pct(cv, 100.0, 1.0, inherent_slope(1.0, c, r)) for cv, c, r in zip(values, chars, ranges)]
+    bottom = [_segment_gain_per_pct(cv, 100.0, 1.0, inherent_slope(0.0, c, r)) for cv, c, r in zip(values, chars, ranges)]
+    if not all(math.isfinite(g) and g > 0.0 for g in top + bottom):
+        return proportional, proportional_jump  # an unbounded slope: no boundary helps
+    width_min = min(float(min_segment_pct), 100.0 / (2 * n))
+
+    def jump_of(bounds: Sequence[float]) -> float:
+        edges = (0.0, *bounds, 100.0)
+        worst = 1.0
+        for k in range(n - 1):
+            w_prev, w_next = edges[k + 1] - edges[k], edges[k + 2] - edges[k + 1]
+            if w_prev < width_min - 1e-9 or w_next < width_min - 1e-9:
+                return math.inf
+            r = (bottom[k + 1] / w_next) / (top[k] / w_prev)
+            worst = max(worst, r, 1.0 / r)
+        return worst
+
+    def grid(low: float, k: int, step: float, prefix: tuple[float, ...]):
+        if k == n - 1:
+            yield prefix
+            return
+        high = 100.0 - width_min * (n - 1 - k)
+        b = low
+        while b <= high + 1e-9:
+            yield from grid(b + width_min, k + 1, step, (*prefix, b))
+            b += step
+
+    step = _grid_step_pct(100.0 - n * width_min, n - 1)
+    best, best_jump = None, math.inf
+    for bounds in grid(width_min, 0, step, ()):
+        j = jump_of(bounds)
+        if j < best_jump:
+            best, best_jump = bounds, j
+    h = step / 2.0
+    while best is not None and h >= 0.01 - 1e-12:
+        improved = True
+        while improved:
+            improved = False
+            for offsets in _offsets(n - 1):
+                trial = tuple(b + o * h for b, o in zip(best, offsets))
+                j = jump_of(trial)
+                if j < best_jump - 1e-12:
+                    best, best_jump, improved = trial, j, True
+        h /= 2.0
+    if best is None:
+        return proportional, proportional_jump
+    found = [round(b, 4) for b in best]
+    found_jump = largest_gain_jump(gain_ratios(values, staged_segments(found), chars, ranges))
+    if found_jump < proportional_jump:
+        return found, found_jump
+    return proportional, proportional_jump
+
+
+def _offsets(count: int) -> list[tuple[int, ...]]:
+    """Every combination of -2..2 steps for ``count`` boundaries (the local grid)."""
+    out: list[tuple[int, ...]] = [()]
+    for _ in range(count):
+        out = [(*o, d) for o in out for d in (-2, -1, 0, 1, 2)]
+    return out
+
+
+@dataclass(frozen=True)
+class CapacityAdvice:
+    """What to do with the boundaries of a staged group (see :func:`capacity_advice`).
+
+    ``ratios_now``/``jump_now``: gain ratio across each boundary as set and the largest
+    jump; ``proportional_pct``: boundaries in proportion to cumulative Cv;
+    ``best_pct``/``best_ratios``/``jump_best``: the best boundary set found;
+    ``recommended_pct``: ``best_pct`` when it scores no worse than the settings, else
+    ``None``; ``linear_jump``: the largest jump linear trims on every element would give
+    at their best boundaries (1 at the cumulative-Cv ones).
+    """
+
+    ratios_now: tuple[float, ...]
+    jump_now: float
+    proportional_pct: tuple[float, ...]
+    best_pct: tuple[float, ...]
+    best_ratios: tuple[float, ...]
+    jump_best: float
+    recommended_pct: tuple[float, ...] | None
+    linear_jump: float
+
+    @property
+    def is_proportional(self) -> bool:
+        """True when the recommendation is the cumulative-Cv one (within 0.01 % CO)."""
+        return self.recommended_pct is not None and all(
+            abs(a - b) <= 0.01 for a, b in zip(self.recommended_pct, self.proportional_pct))
+
+    @property
+    def improves(self) -> bool:
+        """True when the recommendation scores strictly better than the settings (by 0.1 %)."""
+        return self.recommended_pct is not None and self.jump_best < self.jump_now * (1.0 - 1e-3)
+
+
+def capacity_advice(
+    cvs: Sequence[float],
+    intents: Sequence[Intent],
+    characteristic: str | Sequence[str] = "linear",
+    rangeability: float | Sequence[float] = DEFAULT_RANGEABILITY,
+    min_segment_pct: float = MIN_SEGMENT_PCT,
+) -> CapacityAdvice:
+    """Score the boundaries as set and the best ones by one model, and recommend only
+    boundaries that score no worse (DESIGN §3.3).
+
+    The settings are scored with :func:`gain_ratios` on their intents (gaps, overlaps,
+    partial travel as they are); candidates with :func:`gain_ratios` on
+    :func:`staged_segments` (:func:`best_boundaries_pct`). The score is
+    :func:`largest_gain_jump`. A recommendation scoring worse than the settings is
+    dropped (``recommended_pct`` None: keep the settings).
+
+    >>> a = capacity_advice([10, 30], [Intent(0, 50, 0, 100), Intent(50, 100, 0, 100)])
+    >>> a.recommended_pct, round(a.jump_now, 6), round(a.jump_best, 6)
+    ((25.0,), 3.0, 1.0)
+    """
+    values = _check_cvs(cvs)
+    n = len(values)
+    chars = _per_element(characteristic, n, "characteristic")
+    ranges = _per_element(rangeability, n, "rangeability")
+    ratios_now = tuple(gain_ratios(values, intents, chars, ranges))
+    jump_now = largest_gain_jump(ratios_now)
+    best, jump_best = best_boundaries_pct(values, chars, ranges, min_segment_pct)
+    best_ratios = tuple(gain_ratios(values, staged_segments(best), chars, ranges)) if n > 1 else ()
+    usable = math.isfinite(jump_best) and jump_best <= jump_now * (1.0 + 1e-9)
+    linear_jump = best_boundaries_pct(values, "linear", DEFAULT_RANGEABILITY, min_segment_pct)[1]
+    return CapacityAdvice(
+        ratios_now=ratios_now, jump_now=jump_now, proportional_pct=tuple(recommended_boundaries_pct(values)),
+        best_pct=tuple(best), best_ratios=best_ratios, jump_best=jump_best,
+        recommended_pct=tuple(best) if usable else None, linear_jump=linear_jump,
+    )

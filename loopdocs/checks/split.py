@@ -23,15 +23,20 @@ Rules of this module:
 - ``split.double-split`` (error): a ``dcs`` element whose positioner is not set to the full
   span, so the split is made twice.
 - ``split.capacity`` (warning): gain ratio across a boundary of a ``staged`` group outside
-  0.5 to 2 (common practice), with the capacity-proportional boundaries.
+  0.5 to 2 (common practice), with the boundaries recommended by the same gain model
+  (only where they score better than the settings) and, where no boundaries keep the
+  gain within the band, what does (linear trims or a deliberate overlap).
 
 A finding resting on a default (DESIGN §3) says so and is at most a warning.
 """
 
 from __future__ import annotations
 
+import math
 from collections import Counter
 from typing import Iterator
+
+from loopdocs.calc.capacity import CapacityAdvice
 
 from loopdocs.calc.split import (
     SHARED_TOLERANCE_PCT,
@@ -343,7 +348,7 @@ def capacity(ctx: Context) -> Iterator[Finding | Unverified]:
                              group.loop, group_tags(group),
                              project.cell(next((e.record for e in ordered if e.record.cv is None), ordered[0].record), "cv"))
             continue
-        boundaries = ", ".join(fmt_pct(b) for b in group.recommended_boundaries_pct or ())
+        advice_text = capacity_advice_text(group.capacity_advice, high_band)
         for k, ratio in enumerate(group.gain_ratios):
             if low_band <= ratio <= high_band:
                 continue
@@ -352,14 +357,54 @@ def capacity(ctx: Context) -> Iterator[Finding | Unverified]:
             for e in (p, q):
                 char = e.record.characteristic.value if e.record.characteristic else "linear"
                 described.append(f"{e.tag} (Cv {e.record.cv:g}, {char}, {segment_text(e)})")
-            message = (f"gain ratio across the boundary from {described[0]} to {described[1]} is {ratio:.2f}, outside "
-                       f"{low_band:g} to {high_band:g} (common practice): the loop gain jumps there; boundaries in "
-                       f"proportion to cumulative Cv: {boundaries} %")
+            message = (f"gain ratio across the boundary from {described[0]} to {described[1]} is {_ratio(ratio)}, "
+                       f"outside {low_band:g} to {high_band:g} (common practice): the loop gain jumps there; "
+                       f"{advice_text}")
             notes = [v for k2, v in group.capacity_assumptions.items() if k2.split(".")[0] in (p.tag, q.tag)]
             if notes:
                 message += f" ({'; '.join(notes)})"
             yield Finding("split.capacity", Severity.WARNING, message, loop=group.loop, tags=(p.tag, q.tag),
                           location=project.cell(p.record, "co_end_pct"))
+
+
+def _ratio(value: float) -> str:
+    return f"{value:.2f}" if math.isfinite(value) else "unbounded"
+
+
+def _pcts(values) -> str:
+    return ", ".join(fmt_pct(v) for v in values) + " %"
+
+
+def capacity_advice_text(advice: CapacityAdvice | None, high_band: float = GAIN_RATIO_BAND[1]) -> str:
+    """What to do about the boundaries of a staged group, in words, with the figures: the
+    recommended boundaries where they score better than the settings (by the same gain
+    model, ``loopdocs.calc.capacity.capacity_advice``); where no boundaries bring every
+    ratio within the band, what does (linear trims on the staged valves, or a deliberate
+    overlap). The jump is ``max(r, 1/r)`` over the boundaries."""
+    if advice is None:
+        return ""
+    parts = []
+    now, best = _ratio(advice.jump_now), _ratio(advice.jump_best)
+    if advice.improves and advice.is_proportional:
+        parts.append(f"boundaries in proportion to cumulative Cv: {_pcts(advice.recommended_pct)} (largest gain change "
+                     f"across a boundary: factor {best} there, {now} now)")
+    elif advice.improves:
+        parts.append(f"recommended boundaries {_pcts(advice.recommended_pct)} (largest gain change across a boundary: "
+                     f"factor {best} there, {now} now; boundaries in proportion to cumulative Cv, "
+                     f"{_pcts(advice.proportional_pct)}, do worse with these trims)")
+    if advice.jump_best <= high_band and advice.improves:
+        return "; ".join(parts)
+    if not math.isfinite(advice.jump_best):
+        parts.append("no boundary setting evens the gain out: it is unbounded whatever the boundaries")
+    elif advice.improves:
+        parts.append(f"no boundary setting keeps every ratio within the band (a factor {best} at best)")
+    else:
+        parts.append(f"no boundary setting does better than the one set (largest gain change across a boundary: "
+                     f"factor {now} now, {best} at best with boundaries {_pcts(advice.best_pct)})")
+    parts.append(f"what helps is linear trims on the staged valves (factor {_ratio(advice.linear_jump)} with "
+                 f"boundaries in proportion to cumulative Cv, {_pcts(advice.proportional_pct)}) or a deliberate "
+                 "overlap of the segments")
+    return "; ".join(parts)
 
 
 # --------------------------------------------------------------------------- entry point

@@ -37,9 +37,12 @@ Public API
     ``mixed``, or ``single`` for one element), ``method`` (common split method or
     ``mixed``), ``pairs`` (``(first, second, PairRelation)`` for neighbours in CO order,
     with ``gap_pct``/``overlap_pct``), ``uncovered_co`` (CO intervals where nothing
-    moves), ``recommended_boundaries_pct`` (capacity-proportional boundaries for a
-    ``staged`` group with every Cv known, else ``None``), ``gain_ratios`` (gain ratio
-    across each boundary, same condition), ``capacity_assumptions``, ``is_split`` (more
+    moves), ``capacity_advice`` (``loopdocs.calc.capacity.CapacityAdvice`` for a ``staged``
+    group with every Cv known, else ``None``), ``recommended_boundaries_pct`` (its
+    recommendation: the boundaries with the smallest gain jump, cumulative-Cv ones for
+    linear trims, given only where they score no worse than the settings; else ``None``),
+    ``gain_ratios`` (gain ratio across each boundary as set, same condition as the
+    advice), ``capacity_assumptions``, ``is_split`` (more
     than one element, or one over part of the CO), ``capacity_curve(step_pct)`` (total Cv
     against CO for the range chart, ``None`` without Cv) and ``as_json()`` (DESIGN §5).
 
@@ -79,9 +82,9 @@ from typing import Any
 
 from loopdocs.calc.capacity import (
     DEFAULT_RANGEABILITY,
+    CapacityAdvice,
+    capacity_advice,
     combined_capacity_curve,
-    gain_ratios,
-    recommended_boundaries_pct,
 )
 from loopdocs.calc.signals import KPA_20_100, MA_4_20, PSIG_3_15, SignalSpan, pneumatic_span
 from loopdocs.calc.split import (
@@ -290,6 +293,8 @@ class SplitGroup:
     recommended_boundaries_pct: tuple[float, ...] | None
     gain_ratios: tuple[float, ...] | None
     capacity_assumptions: dict[str, str] = field(default_factory=dict)
+    capacity_advice: CapacityAdvice | None = None
+    """Scores of the boundaries as set and of the best ones (``staged`` group with every Cv)."""
 
     @cached_property
     def uncovered_co(self) -> tuple[tuple[float, float], ...]:
@@ -447,7 +452,7 @@ def _build_group(project: Project, controller: str, records: list[Tag], relays: 
     else:
         ordered, pairs = [], ()
     methods = {e.method for e in elements}
-    boundaries, ratios, capacity_notes = _capacity(ordered, arrangement)
+    advice, capacity_notes = _capacity(ordered, arrangement)
     return SplitGroup(
         controller=controller,
         loop=loop,
@@ -457,9 +462,10 @@ def _build_group(project: Project, controller: str, records: list[Tag], relays: 
         arrangement=arrangement,
         method=methods.pop() if len(methods) == 1 else "mixed",
         pairs=pairs,
-        recommended_boundaries_pct=boundaries,
-        gain_ratios=ratios,
+        recommended_boundaries_pct=advice.recommended_pct if advice is not None else None,
+        gain_ratios=advice.ratios_now if advice is not None else None,
         capacity_assumptions=capacity_notes,
+        capacity_advice=advice,
     )
 
 
@@ -663,14 +669,13 @@ def _characteristics(elements: list[SplitElement] | tuple[SplitElement, ...]) ->
     return chars, ranges, notes
 
 
-def _capacity(ordered: list[SplitElement], arrangement: Arrangement | None):
-    """Capacity-proportional boundaries and gain ratios of a ``staged`` group with every Cv."""
+def _capacity(ordered: list[SplitElement], arrangement: Arrangement | None) -> tuple[CapacityAdvice | None, dict[str, str]]:
+    """The capacity advice of a ``staged`` group with every Cv (``calc.capacity.capacity_advice``):
+    gain ratios as set, and boundaries recommended only where they score no worse."""
     if arrangement is None or arrangement.mode != "staged":
-        return None, None, {}
+        return None, {}
     cvs = [e.record.cv for e in ordered]
     if any(cv is None or not (math.isfinite(cv) and cv > 0) for cv in cvs):
-        return None, None, {}
+        return None, {}
     chars, ranges, notes = _characteristics(ordered)
-    boundaries = tuple(recommended_boundaries_pct(cvs))
-    ratios = tuple(gain_ratios(cvs, [e.intent for e in ordered], chars, ranges))
-    return boundaries, ratios, notes
+    return capacity_advice(cvs, [e.intent for e in ordered], chars, ranges), notes
