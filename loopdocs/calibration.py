@@ -23,16 +23,18 @@ from typing import Any, Iterable
 
 from loopdocs.calc.calibration import (
     CalibrationTable,
+    DpRange,
     converter_table,
     loop_check_table,
     sensor_table,
+    sqrt_flow_table,
     stroke_table,
     transmitter_table,
 )
 from loopdocs.calc.signals import MA_4_20, SignalSpan, pneumatic_span
 from loopdocs.model.records import Project, Tag
 from loopdocs.model.tagname import TagKind
-from loopdocs.model.vocab import Signal
+from loopdocs.model.vocab import Signal, Transfer
 
 
 @dataclass(frozen=True)
@@ -119,6 +121,9 @@ def transmitter_for(
         notes.append("Transfer blank: linear taken")
     if span is None:
         notes.append("digital output: read the process value on the host or a handheld")
+    flow = flow_transmitter_for(tag, span, calibrator_unit)
+    if flow is not None:
+        return flow if isinstance(flow, Skipped) else flow.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
     from loopdocs.calc.units import is_length
 
     if is_length(tag.units):
@@ -140,6 +145,56 @@ def transmitter_for(
     except ValueError as exc:
         return Skipped(tag.tag, str(exc), tag.loop)
     return table.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
+
+
+def flow_transmitter_for(
+    tag: Tag, span: SignalSpan | None, calibrator_unit: str | None = None
+) -> CalibrationTable | Skipped | None:
+    """The table of a DP flow transmitter ranged in flow units, or ``None`` for any other row.
+
+    - Transfer sqrt, range in flow units: ``sqrt_flow_table`` (flow, DP to apply, output
+      linear in flow), with the DP range when DP Low/High/Units are given;
+    - Transfer sqrt, range neither flow nor pressure: refused (``flow.sqrt-units``);
+    - a DP range with Transfer linear and a range in flow units: the transmitter is linear
+      in DP (the root is taken in the control system): the table runs over the DP range;
+    - a DP range with Transfer blank and a range in flow units: refused, the output law
+      cannot be told.
+    A range in pressure units with sqrt is the DP range: ``None`` (the ordinary table).
+    """
+    from loopdocs.calc.units import is_flow, is_pressure
+
+    sqrt = tag.transfer is Transfer.SQRT
+    if sqrt and is_pressure(tag.units or ""):
+        return None
+    if sqrt and not is_flow(tag.units or ""):
+        return Skipped(tag.tag, f"Transfer sqrt with Units {tag.units!r}: square root needs a flow range "
+                                "(flow units) or a differential-pressure range (pressure units)", tag.loop)
+    if not (sqrt or (tag.has_dp_range and is_flow(tag.units or ""))):
+        return None
+    dp = None
+    if tag.has_dp_range:
+        if tag.dp_low is None or tag.dp_high is None or not tag.dp_units:
+            return Skipped(tag.tag, "DP range incomplete: DP Low, DP High and DP Units are all needed", tag.loop)
+        dp = DpRange(tag.dp_low, tag.dp_high, tag.dp_units)
+    try:
+        if sqrt:
+            return sqrt_flow_table(
+                tag.tag, tag.range_low, tag.range_high, tag.units, span, dp, tag.accuracy_pct,
+                cutoff_pct=tag.flow_cutoff_pct, calibrator_unit=calibrator_unit,
+            )
+        if tag.transfer is None:
+            return Skipped(tag.tag, f"DP range {tag.dp_low:g} to {tag.dp_high:g} {tag.dp_units} with a flow range "
+                                    "and Transfer blank: write sqrt (the transmitter extracts the root) or linear "
+                                    "(linear in DP, root taken in the control system)", tag.loop)
+        assert dp is not None
+        table = transmitter_table(tag.tag, dp.low, dp.high, dp.unit, span, "linear", tag.accuracy_pct,
+                                  calibrator_unit=calibrator_unit)
+    except ValueError as exc:
+        return Skipped(tag.tag, str(exc), tag.loop)
+    return table.with_context(notes=[
+        f"output linear in DP over {dp.low:g} to {dp.high:g} {dp.unit}; the control system extracts the root: "
+        f"flow = sqrt(DP fraction) x {tag.range_high:g} {tag.units} (50 % flow at 25 % DP)",
+    ])
 
 
 def sensor_for(tag: Tag) -> CalibrationTable | Skipped:

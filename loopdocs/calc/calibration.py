@@ -9,9 +9,15 @@ Transmitters (and converters such as an I/P), five points rising then falling::
     q = p (linear) or sqrt(p) (square root)   output fraction
     S = low + q * (high - low)                output signal (4-20 mA, 3-15 psig, 20-100 kPa)
 
-Square-root convention: the test points are 0, 25, 50, 75 and 100 % of the
-differential-pressure span and the output follows ``sqrt`` (25 % DP = 50 % flow =
-12 mA; ISO 5167-1, common practice). Tolerance = Accuracy % of span, in input units
+Square-root (root-extracting DP flow transmitter): the output is linear in flow,
+``S = low + q * (high - low)`` with ``q`` the fraction of the flow range, while the
+differential pressure across the element is ``DP = q**2 * DP_span`` (flow through a
+differential-pressure device is proportional to the square root of DP, ISO 5167-1), so
+50 % flow = 25 % DP = 12 mA. A range in pressure units is the DP range: points at 0,
+1, 25, 50, 75 and 100 % of DP (1 % DP = 10 % flow, where the root's gain is steepest).
+A range in flow units is the flow range (``sqrt_flow_table``): points at 0, 10, 25, 50,
+75 and 100 % of flow, each with the DP to apply (or the % of DP span when the index
+gives no DP range). Tolerance = Accuracy % of span, in input units
 (``acc * |URV - LRV|``) and output units (``acc * (high - low)``).
 
 Final elements: the input signal at 0, 25, 50, 75, 100 % travel from the positioner
@@ -52,6 +58,16 @@ from loopdocs.calc.thermocouple import emf_to_simulate_mv
 
 #: Test points, % of span (DESIGN §4).
 FIVE_POINTS_PCT = (0.0, 25.0, 50.0, 75.0, 100.0)
+#: Test points of a square-root transmitter ranged in DP, % of DP span: the five points
+#: and 1 % DP (= 10 % flow), where root extraction matters most (common practice).
+SQRT_DP_POINTS_PCT = (0.0, 1.0, 25.0, 50.0, 75.0, 100.0)
+#: Test points of a square-root transmitter ranged in flow, % of flow: the five points
+#: and 10 % flow (= 1 % DP) (common practice).
+SQRT_FLOW_POINTS_PCT = (0.0, 10.0, 25.0, 50.0, 75.0, 100.0)
+#: ``Simulated.basis`` of the differential pressure to apply at a flow point.
+DP_BASIS = "differential pressure to apply: DP = (flow fraction)^2 x DP span"
+#: Unit of the DP to apply when the index gives no DP range.
+DP_PCT_UNIT = "% DP span"
 #: Controller-output step of a split group's loop check, %.
 LOOP_CHECK_STEP_PCT = 10.0
 DIRECTIONS = ("up", "down")
@@ -373,7 +389,7 @@ def transmitter_table(
     Raises ValueError for a zero span, an unknown transfer or units pint cannot convert.
 
     >>> t = transmitter_table("FT-1", 0.0, 250.0, "mbar", MA_4_20, "sqrt")
-    >>> t.points[1].input.value, t.points[1].output.value  # 25 % DP = 50 % flow = 12 mA
+    >>> t.points[2].input.value, t.points[2].output.value  # 25 % DP = 50 % flow = 12 mA
     (62.5, 12.0)
     >>> t = transmitter_table("PT-1", 100.0, 0.0, "kPa", MA_4_20)  # reverse range
     >>> t.points[1].input.value, t.points[1].output.value
@@ -395,8 +411,21 @@ def transmitter_table(
 
         if is_pressure(input_unit) and is_pressure(calibrator_unit):
             convert_to = lambda x: convert(x, input_unit, calibrator_unit)  # noqa: E731
+    if transfer == "sqrt":
+        from loopdocs.calc.units import is_pressure
+
+        if not is_pressure(input_unit):
+            raise ValueError(
+                f"square root on a range in {input_unit}: a root-extracting transmitter's range is its "
+                "differential-pressure range (pressure units) or its flow range (flow units)"
+            )
+        if lrv != 0.0 or urv <= 0.0:
+            raise ValueError(
+                f"square root on a DP range of {lrv:g} to {urv:g} {input_unit}: the DP range of a "
+                "root-extracting flow transmitter runs from 0 (zero flow) up"
+            )
     points = []
-    for pct, direction in rising_falling():
+    for pct, direction in rising_falling(SQRT_DP_POINTS_PCT if transfer == "sqrt" else FIVE_POINTS_PCT):
         p = pct / 100.0
         x = lrv + p * (urv - lrv)
         q = sqrt_transfer(p) if transfer == "sqrt" else p
@@ -410,8 +439,8 @@ def transmitter_table(
     notes = []
     if transfer == "sqrt":
         notes.append(
-            "square root: test points at 0, 25, 50, 75, 100 % of differential pressure; "
-            "output = sqrt(DP fraction) (25 % DP = 50 % flow)"
+            "square root: range is the differential pressure; output linear in flow, "
+            "flow fraction = sqrt(DP fraction) (25 % DP = 50 % flow, 1 % DP = 10 % flow)"
         )
     if lrv > urv:
         notes.append(f"reverse range: output rises as the input falls from {lrv:g} to {urv:g} {input_unit}")
@@ -432,6 +461,120 @@ def transmitter_table(
         output_range=(Quantity(out_low, out_unit), Quantity(out_high, out_unit)),
         notes=tuple(notes),
         ne43=ne43_levels() if output is not None and output.unit == "mA" and kind == "transmitter" else None,
+    )
+
+
+@dataclass(frozen=True)
+class DpRange:
+    """The calibrated differential-pressure range of a root-extracting flow transmitter."""
+
+    low: float
+    high: float
+    unit: str
+
+
+def dp_at_flow_fraction(flow_fraction: float, dp: DpRange | None) -> Simulated:
+    """The differential pressure to apply for a flow fraction ``q`` (0 to 1).
+
+    ``DP = DP_low + q**2 * (DP_high - DP_low)`` in the DP unit, or ``100 * q**2`` in % of
+    the DP span without a DP range (ISO 5167-1: flow is proportional to sqrt(DP)).
+
+    >>> dp_at_flow_fraction(0.5, DpRange(0.0, 25.0, "kPa")).value
+    6.25
+    >>> s = dp_at_flow_fraction(0.1, None); (round(s.value, 9), s.unit)
+    (1.0, '% DP span')
+    """
+    fraction = float(flow_fraction) ** 2
+    if dp is None:
+        return Simulated(100.0 * fraction, DP_PCT_UNIT, DP_BASIS)
+    return Simulated(dp.low + fraction * (dp.high - dp.low), dp.unit, DP_BASIS)
+
+
+def sqrt_flow_table(
+    tag: str,
+    flow_low: float,
+    flow_high: float,
+    flow_unit: str,
+    output: SignalSpan | None,
+    dp: DpRange | None = None,
+    accuracy_pct: float | None = None,
+    *,
+    cutoff_pct: float | None = None,
+    calibrator_unit: str | None = None,
+) -> CalibrationTable:
+    """A root-extracting DP flow transmitter ranged in flow units (module docstring).
+
+    At each point ``q`` (0, 10, 25, 50, 75, 100 % of the flow range, rising then falling)
+    the table gives the flow, the DP to apply (``dp_at_flow_fraction``; with a DP range
+    in its unit, and in ``calibrator_unit`` when that is another pressure unit) and the
+    output, linear in flow: ``S = low + q * (high - low)``. ``output`` ``None`` (digital)
+    expects the flow itself. Below a low-flow cut-off (``cutoff_pct``, % of flow) the
+    transmitter reports zero flow, so a point there expects the output at 0 %.
+    ValueError unless the flow and DP ranges run from 0 up and the DP unit is a pressure.
+
+    >>> t = sqrt_flow_table("FT-1", 0.0, 120.0, "m3/h", MA_4_20, DpRange(0.0, 25.0, "kPa"))
+    >>> [(p.input.value, round(p.simulate[0].value, 4), p.output.value) for p in t.points[2:4]]
+    [(30.0, 1.5625, 8.0), (60.0, 6.25, 12.0)]
+    """
+    from loopdocs.calc.units import is_pressure
+
+    flow_low, flow_high = float(flow_low), float(flow_high)
+    if flow_low != 0.0 or not flow_high > 0.0 or not math.isfinite(flow_high):
+        raise ValueError(
+            f"square root on a flow range of {flow_low:g} to {flow_high:g} {flow_unit}: a root-extracting "
+            "DP flow range runs from 0 (zero flow) up"
+        )
+    if dp is not None:
+        if not is_pressure(dp.unit):
+            raise ValueError(f"DP Units {dp.unit!r} is not a pressure unit")
+        if dp.low != 0.0 or not dp.high > 0.0 or not math.isfinite(dp.high):
+            raise ValueError(
+                f"DP range {dp.low:g} to {dp.high:g} {dp.unit}: the DP range of a root-extracting flow "
+                "transmitter runs from 0 (zero flow) up"
+            )
+    if cutoff_pct is not None and not (math.isfinite(cutoff_pct) and 0.0 <= cutoff_pct < 100.0):
+        raise ValueError(f"low-flow cut-off must be 0 to 100 % of flow, got {cutoff_pct:g}")
+    if output is None:
+        out_unit, out_low, out_high = flow_unit, flow_low, flow_high
+    else:
+        out_unit, out_low, out_high = output.unit, output.low, output.high
+    convert_to = None
+    if dp is not None and calibrator_unit and calibrator_unit != dp.unit:
+        from loopdocs.calc.units import convert
+
+        if is_pressure(calibrator_unit):
+            convert_to = lambda x: convert(x, dp.unit, calibrator_unit)  # noqa: E731
+    points = []
+    for pct, direction in rising_falling(SQRT_FLOW_POINTS_PCT):
+        q = pct / 100.0
+        below_cutoff = cutoff_pct is not None and 0.0 < pct < cutoff_pct
+        y = out_low if below_cutoff else out_low + q * (out_high - out_low)
+        applied = dp_at_flow_fraction(q, dp)
+        simulate: tuple[Simulated, ...] = (applied,)
+        if convert_to is not None:
+            simulate += (Simulated(convert_to(applied.value), calibrator_unit, "calibrator unit"),)
+        points.append(Point(pct, Quantity(flow_high * q, flow_unit), Quantity(y, out_unit), direction, simulate))
+    dp_text = f"{dp.low:g} to {dp.high:g} {dp.unit}" if dp is not None else "not given in the index"
+    notes = [
+        f"square root: the transmitter extracts the root; output linear in flow, DP = (flow fraction)^2 x DP span "
+        f"(50 % flow = 25 % DP); DP range {dp_text}",
+    ]
+    if dp is None:
+        notes.append("apply the % of the transmitter's DP span shown (DP Low/DP High/DP Units blank in the index)")
+    if cutoff_pct is not None:
+        notes.append(
+            f"low-flow cut-off {cutoff_pct:g} % flow ({cutoff_pct ** 2 / 100.0:.4g} % DP): below it the transmitter "
+            f"reports zero flow ({out_low:g} {out_unit}); check the transmitter's cut-off setting"
+        )
+    return CalibrationTable(
+        tag=tag,
+        kind="transmitter",
+        points=tuple(points),
+        tolerance=tolerance_of(accuracy_pct, flow_high - flow_low, flow_unit, out_high - out_low, out_unit),
+        input_range=(Quantity(flow_low, flow_unit), Quantity(flow_high, flow_unit)),
+        output_range=(Quantity(out_low, out_unit), Quantity(out_high, out_unit)),
+        notes=tuple(notes),
+        ne43=ne43_levels() if output is not None and output.unit == "mA" else None,
     )
 
 

@@ -10,9 +10,11 @@ commands that never convert a unit stay fast. It adds the trade's spellings pint
 - ``mmWC``, ``inWC`` and ``ftWC`` for the conventional water columns pint names
   ``mmH2O``, ``inH2O`` and ``ftH2O`` (NIST SP 811 appendix B: 1 mmH2O = 9.80665 Pa,
   1 inH2O = 249.0889 Pa, conventional, at 4 degC and standard gravity; from memory);
-- ``gpm`` (US gallon per minute);
-- written forms ``m3/h``, ``m³/h``, ``Nm3/h`` (read as m**3/h), ``°C``, ``deg C``,
-  ``°F``.
+- ``gpm`` (US gallon per minute), ``scfm``, ``scfh`` and ``MMSCFD`` (standard cubic
+  feet per minute, per hour, million per day: read as volumes, their reference state
+  is not a unit);
+- written forms ``m3/h``, ``m³/h``, ``Nm3/h`` and ``Sm3/h`` (read as m**3/h), ``°C``,
+  ``deg C``, ``°F``.
 
 >>> round(convert(1.0, "barg", "psig"), 4)
 14.5038
@@ -42,6 +44,9 @@ _DEFINITIONS = (
     "inWC = inch_H2O",
     "ftWC = foot_H2O",
     "gpm = gallon / minute",
+    "scfm = foot ** 3 / minute",
+    "scfh = foot ** 3 / hour",
+    "MMSCFD = 1e6 * foot ** 3 / day",
 )
 
 _WRITTEN = {
@@ -78,7 +83,7 @@ def unit_expression(text: str) -> str:
     if folded in _WRITTEN:
         return _WRITTEN[folded]
     expr = raw.replace("³", "3").replace("²", "2")
-    expr = re.sub(r"\bNm(?=3)", "m", expr)
+    expr = re.sub(r"\b[NS]m(?=3)", "m", expr)
     expr = re.sub(r"(?<=[A-Za-z])([23])\b", r"**\1", expr)
     return expr
 
@@ -115,28 +120,85 @@ def same_dimension(unit_a: str, unit_b: str) -> bool:
         return False
 
 
+#: Quantity names of the dimensions the index uses, by pint dimensionality (as text).
+_DIMENSION_NAMES = {
+    "[pressure]": "pressure",
+    "[mass] / [length] / [time] ** 2": "pressure",
+    "[temperature]": "temperature",
+    "[length]": "length",
+    "[length] ** 3 / [time]": "flow",
+    "[mass] / [time]": "flow",
+    "[current]": "current",
+    "dimensionless": "ratio",
+}
+
+
+def _spellings(units: str, prefixes: str = "") -> list[str]:
+    names = units.split()
+    return [prefix + name for name in names for prefix in ("", *prefixes.split())]
+
+
+#: The unit spellings an index uses most, by quantity, so that the checks can tell a
+#: pressure from a flow without building the unit registry (slow to build; the
+#: ``check`` command never converts). Every entry is tested against pint.
+_COMMON_DIMENSIONS: dict[str, str] = {
+    **{u: "pressure" for u in _spellings("Pa Pag Paa", "k M h") + _spellings("bar barg bara", "m")
+       + ["psi", "psig", "psia", "mmH2O", "inH2O", "mmWC", "inWC", "ftWC", "ftH2O", "mmHg", "inHg", "atm", "torr"]},
+    **{u: "temperature" for u in ("degC", "degF", "K", "kelvin")},
+    **{u: "length" for u in ("mm", "cm", "m", "in", "ft")},
+    **{u: "flow" for u in (
+        [f"{v}/{t}" for v in ("m**3", "l", "L", "gal", "ft**3", "bbl", "kg", "g", "t", "lb", "klb")
+         for t in ("s", "min", "h", "hr", "d", "day")]
+        + ["gpm", "scfm", "scfh", "MMSCFD"])},
+    **{u: "current" for u in ("mA", "A")},
+    "%": "ratio",
+}
+
+
+@cache
+def dimension(unit: str) -> str | None:
+    """The quantity a unit measures: ``pressure``, ``temperature``, ``length``, ``flow``
+    (volume or mass per time), ``current``, ``ratio``; ``other`` for any other unit pint
+    knows; ``None`` for a unit it does not know. Common spellings are answered from a
+    table without building the registry.
+
+    >>> dimension("inH2O"), dimension("Nm3/h"), dimension("t/h"), dimension("degF"), dimension("%")
+    ('pressure', 'flow', 'flow', 'temperature', 'ratio')
+    """
+    if unit is None or not str(unit).strip():
+        return None
+    expr = unit_expression(unit)
+    if expr in _COMMON_DIMENSIONS:
+        return _COMMON_DIMENSIONS[expr]
+    try:
+        dims = str(parse_unit(unit).dimensionality)
+    except ValueError:
+        return None
+    return _DIMENSION_NAMES.get(dims, "other")
+
+
 def is_temperature(unit: str) -> bool:
     """True for a temperature unit (degC, degF, K, degR)."""
-    try:
-        return parse_unit(unit).dimensionality == registry().Unit("kelvin").dimensionality
-    except ValueError:
-        return False
+    return dimension(unit) == "temperature"
 
 
 def is_pressure(unit: str) -> bool:
     """True for a pressure unit, gauge, absolute or differential (kPa, barg, inH2O ...)."""
-    try:
-        return parse_unit(unit).dimensionality == registry().Unit("pascal").dimensionality
-    except ValueError:
-        return False
+    return dimension(unit) == "pressure"
 
 
 def is_length(unit: str) -> bool:
     """True for a length unit (a level range in mm, m, ft)."""
-    try:
-        return parse_unit(unit).dimensionality == registry().Unit("meter").dimensionality
-    except ValueError:
-        return False
+    return dimension(unit) == "length"
+
+
+def is_flow(unit: str) -> bool:
+    """True for a volumetric or mass flow rate (m3/h, Nm3/h, l/min, gpm, kg/h, t/h, lb/h).
+
+    >>> is_flow("Nm3/h"), is_flow("t/h"), is_flow("kPa"), is_flow("%")
+    (True, True, False, False)
+    """
+    return dimension(unit) == "flow"
 
 
 def convert(value: float, from_unit: str, to_unit: str) -> float:

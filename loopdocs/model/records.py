@@ -53,6 +53,10 @@ class Tag(BaseModel):
     range_high: float | None = None
     units: str | None = None
     transfer: Transfer | None = None
+    dp_low: float | None = None
+    dp_high: float | None = None
+    dp_units: str | None = None
+    flow_cutoff_pct: float | None = None
     sensor: Sensor | None = None
     accuracy_pct: float | None = None
     control_action: ControlAction | None = None
@@ -96,6 +100,11 @@ class Tag(BaseModel):
     @property
     def has_range(self) -> bool:
         return self.range_low is not None and self.range_high is not None
+
+    @property
+    def has_dp_range(self) -> bool:
+        """Any of DP Low, DP High, DP Units given (``checks.flow`` reports an incomplete one)."""
+        return self.dp_low is not None or self.dp_high is not None or bool(self.dp_units)
 
 
 class Loop(BaseModel):

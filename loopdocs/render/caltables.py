@@ -20,9 +20,9 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from loopdocs.calc.calibration import CalibrationTable, Point, display_decimals, ne43_note
+from loopdocs.calc.calibration import DP_BASIS, DP_PCT_UNIT, CalibrationTable, Point, display_decimals, ne43_note
 
-PERCENT_HEADS = {"final element": "% travel", "loop check": "% CO"}
+PERCENT_HEADS = {"final element": "% travel", "fail action": "% travel held", "loop check": "% CO"}
 LOOP_CHECK = "loop check"
 SIGNAL_BASIS = "signal at the element"
 
@@ -123,6 +123,8 @@ def distinct_points(points: Sequence[Point]) -> list[Point]:
 def _simulated_head(basis: str, unit: str, junction: float | None) -> str:
     if basis == SIGNAL_BASIS:
         return f"Signal {unit}"
+    if basis == DP_BASIS:
+        return f"Apply DP {unit}" if unit != DP_PCT_UNIT else f"Apply {unit}"
     head = f"Simulate {unit}"
     if junction is not None:
         head += f" (ref. junction {fmt_number(junction)} degC)"
@@ -143,7 +145,7 @@ def _extra_notes(table: CalibrationTable) -> list[str]:
     bases = []
     for point in table.points:
         for sim in point.simulate:
-            if sim.basis not in (SIGNAL_BASIS, "calibrator unit") and (sim.unit, sim.basis) not in bases:
+            if sim.basis not in (SIGNAL_BASIS, DP_BASIS, "calibrator unit") and (sim.unit, sim.basis) not in bases:
                 bases.append((sim.unit, sim.basis))
     notes += [f"simulated {unit}: {basis}" for unit, basis in bases]
     if table.ne43 is not None:
@@ -167,13 +169,14 @@ def single_table(table: CalibrationTable) -> DisplayTable:
     if not redundant:
         heads.append(PERCENT_HEADS.get(table.kind, "% span"))
         columns.append([fmt_number(p) for p in percents])
-    heads.append(f"Apply {in_unit}")
-    columns.append(_column([p.input.value for p in points], in_unit))
     sim_keys: list[tuple[str, str, float | None]] = []
     for p in points:
         for s in p.simulate:
             if (s.basis, s.unit, s.reference_junction_c) not in sim_keys:
                 sim_keys.append((s.basis, s.unit, s.reference_junction_c))
+    # a square-root flow table: the input column is the flow, the DP column is applied
+    heads.append(f"Flow {in_unit}" if any(k[0] == DP_BASIS for k in sim_keys) else f"Apply {in_unit}")
+    columns.append(_column([p.input.value for p in points], in_unit))
     for basis, unit, junction in sim_keys:
         values = [next((s.value for s in p.simulate if (s.basis, s.unit, s.reference_junction_c) == (basis, unit, junction)), None)
                   for p in points]
