@@ -117,11 +117,13 @@ def print_splits(console: Any, checked: Checked) -> None:
             travel = f"{fmt_pct(e.travel_start_pct)} -> {fmt_pct(e.travel_end_pct)}"
             if e.intent_source != "stated":
                 travel += f" ({'from settings' if e.intent_source == 'settings' else 'default'})"
-            table.add_row(e.tag, f"{fmt_pct(e.co_start_pct)} to {fmt_pct(e.co_end_pct)}", travel, now, needed)
-        notes = []
+            segment = f"{fmt_pct(e.co_start_pct)} to {fmt_pct(e.co_end_pct)}"
+            table.add_row(e.tag, segment if e.intent is not None else f"{segment} (invalid)", travel, now, needed)
+        notes = [f"{e.tag} is invalid and not placed in the split: {e.intent_problem}" for e in group.invalid]
         for low, high in group.uncovered_co:
             if high - low > 0.01:
-                notes.append(f"nothing moves over CO {fmt_pct(low)} to {fmt_pct(high)} % ({fmt_pct(high - low)} %)")
+                who = "no valid element moves" if group.invalid else "nothing moves"
+                notes.append(f"{who} over CO {fmt_pct(low)} to {fmt_pct(high)} % ({fmt_pct(high - low)} %)")
         for first, second, relation in group.pairs:
             if relation.overlap_pct > 0.01 and relation.ranges != "shared":
                 notes.append(f"{first.tag} and {second.tag} overlap by {fmt_pct(relation.overlap_pct)} % CO")

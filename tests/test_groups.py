@@ -30,7 +30,7 @@ from loopdocs.read.columns import COLUMNS
 
 REPO = Path(__file__).resolve().parents[1]
 EXAMPLE = REPO / "project_example"
-MODES = {"opposed", "staged", "staged-opposed", "parallel", "mixed", "single"}
+MODES = {"opposed", "staged", "staged-opposed", "parallel", "mixed", "single", "incomplete"}
 OUR_RULES = ("split.", "valve.", "loop.control-sense", "loop.load", "io.", "check.not-verified")
 
 
@@ -141,7 +141,8 @@ def _assert_design_json(report: dict) -> None:
         assert s["recommended_boundaries"] is None or all(isinstance(b, number) for b in s["recommended_boundaries"])
         assert s["elements"]
         for e in s["elements"]:
-            assert set(e) == {"tag", "co_start", "co_end", "travel_start", "travel_end", "method"}
+            assert set(e) == {"tag", "co_start", "co_end", "travel_start", "travel_end", "method", "valid", "problem"}
+            assert isinstance(e["valid"], bool) and (e["problem"] is None) == e["valid"]
             assert all(isinstance(e[k], number) for k in ("co_start", "co_end", "travel_start", "travel_end"))
             assert e["method"] in ("positioner", "pneumatic", "dcs")
     assert {"error", "warning", "info", "accepted"} <= set(report["summary"])
@@ -158,8 +159,10 @@ def test_check_json_of_the_example_follows_design_5():
     splits = {s["controller"]: s for s in report["splits"]}
     assert set(splits) == {"TIC-3105", "LIC-2101", "PIC-4120", "TIC-5310", "PIC-6201"}
     assert splits["TIC-3105"]["elements"] == [
-        {"tag": "TV-3105A", "co_start": 0.0, "co_end": 48.0, "travel_start": 100.0, "travel_end": 0.0, "method": "positioner"},
-        {"tag": "TV-3105B", "co_start": 52.0, "co_end": 100.0, "travel_start": 0.0, "travel_end": 100.0, "method": "positioner"},
+        {"tag": "TV-3105A", "co_start": 0.0, "co_end": 48.0, "travel_start": 100.0, "travel_end": 0.0, "method": "positioner",
+         "valid": True, "problem": None},
+        {"tag": "TV-3105B", "co_start": 52.0, "co_end": 100.0, "travel_start": 0.0, "travel_end": 100.0, "method": "positioner",
+         "valid": True, "problem": None},
     ]
     assert splits["LIC-2101"]["recommended_boundaries"] == [25.0]
     assert splits["TIC-3105"]["recommended_boundaries"] is None

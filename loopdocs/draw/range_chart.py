@@ -240,7 +240,9 @@ def _subtitle(group: SplitGroup) -> str | None:
         return None
     actual = sorted({round(e.co_end_pct, 6) for e in group.elements[:-1]})
     match = len(actual) == len(rec) and all(abs(a - r) <= 0.5 for a, r in zip(actual, rec))
-    text = f"Cv-proportional {'boundary' if len(rec) == 1 else 'boundaries'} {', '.join(fmt_pct(r) for r in rec)} % CO"
+    advice = group.capacity_advice
+    kind = "Cv-proportional" if advice is None or advice.is_proportional else "Recommended"
+    text = f"{kind} {'boundary' if len(rec) == 1 else 'boundaries'} {', '.join(fmt_pct(r) for r in rec)} % CO"
     text += " (as set)" if match else f" (set: {', '.join(fmt_pct(a) for a in actual)} %)"
     if group.gain_ratios:
         text += "; gain ratio across " + ("each boundary " if len(group.gain_ratios) > 1 else "the boundary ")
@@ -317,7 +319,8 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     put(_txt("Controller output (CO), %", plot.x + plot.width / 2, plot.bottom + 5.3 + ASCENT_EM * TEXT_MM,
              "middle", "axis-title"))
 
-    boundaries = sorted({round(v, 6) for e in group.elements for v in (e.co_start_pct, e.co_end_pct) if 0.0 < v < 100.0})
+    boundaries = sorted({round(v, 6) for e in group.elements if e.intent is not None  # an invalid element has none
+                         for v in (e.co_start_pct, e.co_end_pct) if 0.0 < v < 100.0})
 
     # second x-axis: the signal all elements share
     if shared:
@@ -385,7 +388,8 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     drawn: list[SplitElement] = []
     intents: list[tuple[SplitElement, list[Point]]] = []
     for index, element in enumerate(group.elements):
-        result = travel_curve(element)
+        # an element whose CO segment is invalid is not drawn as a segment (its finding is listed)
+        result = travel_curve(element) if element.intent is not None else None
         if result is None:
             continue
         points, source = result
@@ -426,7 +430,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
 
     for co in recommended:
         x = chart.x_of(co)
-        text = f"Cv {fmt_pct(co)} %"
+        text = f"{'Cv' if group.capacity_advice is None or group.capacity_advice.is_proportional else 'rec.'} {fmt_pct(co)} %"
         rows = int(plot.height // LINE_MM)
         cands = [_txt(text, x + d, plot.bottom - 1.0 - DESCENT_EM * TEXT_MM - row * LINE_MM, anchor, "recommended")
                  for row in range(rows) for d, anchor in ((0.8, "start"), (-0.8, "end"))]

@@ -34,7 +34,8 @@ Public API
     ``elements`` (``SplitElement``s in CO order; elements without a usable intent last),
     ``arrangement`` (``loopdocs.calc.split.Arrangement`` of the usable elements or
     ``None``), ``mode`` (``opposed``, ``staged``, ``staged-opposed``, ``parallel``,
-    ``mixed``, or ``single`` for one element), ``method`` (common split method or
+    ``mixed``, or ``single`` for one element; ``incomplete`` when fewer than two elements of a
+    larger group are usable), ``invalid`` (elements without a usable intent), ``method`` (common split method or
     ``mixed``), ``pairs`` (``(first, second, PairRelation)`` for neighbours in CO order,
     with ``gap_pct``/``overlap_pct``), ``uncovered_co`` (CO intervals where nothing
     moves), ``capacity_advice`` (``loopdocs.calc.capacity.CapacityAdvice`` for a ``staged``
@@ -275,6 +276,8 @@ class SplitElement:
             "travel_start": _num(self.travel_start_pct),
             "travel_end": _num(self.travel_end_pct),
             "method": self.method,
+            "valid": self.intent is not None,
+            "problem": self.intent_problem,
         }
 
 
@@ -304,9 +307,17 @@ class SplitGroup:
 
     @property
     def mode(self) -> str:
-        if self.arrangement is not None:
+        """The arrangement of the usable elements (DESIGN §3.1); ``single`` only for a group of
+        one; ``incomplete`` for a group of two or more with fewer than two usable elements
+        (an invalid element is still part of its group, so the group is not a single valve)."""
+        if self.arrangement is not None and (self.arrangement.mode != "single" or len(self.elements) == 1):
             return self.arrangement.mode
-        return "single" if len(self.elements) == 1 else "mixed"
+        return "single" if len(self.elements) == 1 else "incomplete"
+
+    @property
+    def invalid(self) -> tuple["SplitElement", ...]:
+        """The elements whose intent cannot be used (``intent_problem`` says why)."""
+        return tuple(e for e in self.elements if e.intent is None)
 
     @property
     def tags(self) -> tuple[str, ...]:
