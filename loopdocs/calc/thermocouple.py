@@ -181,6 +181,22 @@ REFERENCE_FUNCTIONS: dict[str, dict] = {
 }
 TC_TYPES: tuple[str, ...] = tuple(REFERENCE_FUNCTIONS)
 
+#: Temperature ranges of the tolerance classes 1, 2 and 3 of IEC 60584-1:2013 (the
+#: tolerance table, formerly IEC 60584-2:1982 + A1:1989), degC (low, high), per type.
+#: A class a type does not have is left out. Values as reproduced in manufacturers'
+#: published tolerance tables (two agreeing copies), not read from the standard itself.
+#: The reference function holds beyond them, but no tolerance class is specified there.
+TOLERANCE_CLASS_RANGES_C: dict[str, dict[int, tuple[float, float]]] = {
+    "T": {1: (-40.0, 350.0), 2: (-40.0, 350.0), 3: (-200.0, 40.0)},
+    "J": {1: (-40.0, 750.0), 2: (-40.0, 750.0)},
+    "E": {1: (-40.0, 800.0), 2: (-40.0, 900.0), 3: (-200.0, 40.0)},
+    "K": {1: (-40.0, 1000.0), 2: (-40.0, 1200.0), 3: (-200.0, 40.0)},
+    "N": {1: (-40.0, 1000.0), 2: (-40.0, 1200.0), 3: (-200.0, 40.0)},
+    "R": {1: (0.0, 1600.0), 2: (0.0, 1600.0)},
+    "S": {1: (0.0, 1600.0), 2: (0.0, 1600.0)},
+    "B": {2: (600.0, 1700.0), 3: (600.0, 1700.0)},
+}
+
 # Published tables give EMF to 0.001 mV; an EMF this close beyond either end of the
 # range (a table end value typed in) is read as the end temperature.
 _END_SLACK_MV = 0.0005
@@ -206,6 +222,17 @@ def temperature_range_c(tc_type: str) -> tuple[float, float]:
     """
     segments = REFERENCE_FUNCTIONS[_type_key(tc_type)]["segments"]
     return segments[0]["t_c"][0], segments[-1]["t_c"][1]
+
+
+def tolerance_classes_range_c(tc_type: str) -> tuple[float, float]:
+    """From the lowest to the highest temperature any IEC 60584-1 tolerance class of
+    ``tc_type`` covers, degC (``TOLERANCE_CLASS_RANGES_C``).
+
+    >>> tolerance_classes_range_c("TC-K")  # class 3 from -200, class 2 to 1200 degC
+    (-200.0, 1200.0)
+    """
+    classes = TOLERANCE_CLASS_RANGES_C[_type_key(tc_type)].values()
+    return min(lo for lo, _ in classes), max(hi for _, hi in classes)
 
 
 
