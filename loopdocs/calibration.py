@@ -104,6 +104,15 @@ def _accuracy_note(tag: Tag) -> list[str]:
     return [] if tag.accuracy_pct is not None else ["Accuracy % blank in the index: no tolerance, points cannot be judged"]
 
 
+def _range_outside_sensor(tag: Tag) -> str | None:
+    """Why the range cannot be tabulated for the tag's Sensor, in the index's own value and
+    unit (the words of the ``sensor.range`` finding), or ``None``."""
+    from loopdocs.checks.consistency import sensor_range_problems
+
+    problems = sensor_range_problems(tag.sensor, tag.range_low, tag.range_high, tag.units)
+    return "; ".join(p.text for p in problems) or None
+
+
 def transmitter_for(
     tag: Tag, reference_junction_c: float | None = None, calibrator_unit: str | None = None
 ) -> CalibrationTable | Skipped:
@@ -137,6 +146,9 @@ def transmitter_for(
 
         if not is_temperature(tag.units):
             return Skipped(tag.tag, f"Sensor {sensor} with Units {tag.units!r}: a temperature unit is needed", tag.loop)
+        outside = _range_outside_sensor(tag)
+        if outside:
+            return Skipped(tag.tag, outside, tag.loop)
     try:
         table = transmitter_table(
             tag.tag, tag.range_low, tag.range_high, tag.units, span, transfer, tag.accuracy_pct,
@@ -203,6 +215,9 @@ def sensor_for(tag: Tag) -> CalibrationTable | Skipped:
         return Skipped(tag.tag, "element without a Sensor: nothing to calibrate", tag.loop)
     if not tag.has_range or not tag.units:
         return Skipped(tag.tag, f"Sensor {tag.sensor.value} without Range Low/High and Units", tag.loop)
+    outside = _range_outside_sensor(tag)
+    if outside:
+        return Skipped(tag.tag, outside, tag.loop)
     try:
         table = sensor_table(tag.tag, tag.sensor.value, tag.range_low, tag.range_high, tag.units, tag.accuracy_pct)
     except ValueError as exc:

@@ -9,13 +9,13 @@ from __future__ import annotations
 
 from typing import Callable, Iterable
 
-from loopdocs.checks import flow, split, structural
+from loopdocs.checks import consistency, flow, split, structural
 from loopdocs.findings import Finding
 from loopdocs.model.records import Project
 
 CheckFunction = Callable[[Project], Iterable[Finding]]
 
-ALL_CHECKS: tuple[CheckFunction, ...] = (structural.checks, flow.checks, split.checks)
+ALL_CHECKS: tuple[CheckFunction, ...] = (structural.checks, consistency.checks, flow.checks, split.checks)
 
 
 def run_checks(project: Project) -> list[Finding]:
