@@ -2,15 +2,23 @@
 PYTHON ?= python3
 VENV   := .venv
 PY     := $(VENV)/bin/python
+PIP    := $(PY) -m pip install --quiet --disable-pip-version-check
 STAMP  := $(VENV)/.installed
+TESTSTAMP := $(VENV)/.installed-test
 
 .PHONY: demo test bench clean
 
+# The tool alone: runtime pins only.
 $(STAMP): pyproject.toml requirements.lock
 	$(PYTHON) -m venv $(VENV)
-	$(PY) -m pip install --quiet --disable-pip-version-check -r requirements.lock
-	$(PY) -m pip install --quiet --disable-pip-version-check --no-deps -e .
+	$(PIP) -r requirements.lock
+	$(PIP) --no-deps -e .
 	touch $(STAMP)
+
+# The test tools on top (pytest, hypothesis, and the reference libraries the tests use).
+$(TESTSTAMP): $(STAMP) requirements-test.lock
+	$(PIP) -r requirements-test.lock
+	touch $(TESTSTAMP)
 
 # The example project's full output in project_example/out: findings, the technicians'
 # calibration workbook, diagrams and range charts as SVG, and the PDF package.
@@ -20,10 +28,10 @@ demo: $(STAMP)
 	$(VENV)/bin/loopdocs draw project_example --out project_example/out/drawings
 	$(VENV)/bin/loopdocs build project_example --out project_example/out
 
-test: $(STAMP)
+test: $(TESTSTAMP)
 	$(PY) -m pytest -q loopdocs tests
 
-bench: $(STAMP)
+bench: $(TESTSTAMP)
 	$(PY) benchmarks/bench_check.py
 	$(PY) benchmarks/bench_build.py
 
