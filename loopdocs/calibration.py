@@ -234,10 +234,29 @@ def converter_for(tag: Tag) -> CalibrationTable | Skipped:
         return Skipped(tag.tag, "relay/converter without an input range in mA (Range Low/High, Units)", tag.loop)
     try:
         in_span = SignalSpan(min(tag.range_low, tag.range_high), max(tag.range_low, tag.range_high), "mA")
-        table = converter_table(tag.tag, in_span, span, tag.accuracy_pct)
+        table = _converter_with_tolerance(tag, in_span, span)
     except ValueError as exc:
         return Skipped(tag.tag, str(exc), tag.loop)
-    return table.with_context(loop=tag.loop, service=tag.service or "", notes=_accuracy_note(tag))
+    return table.with_context(loop=tag.loop, service=tag.service or "")
+
+
+#: Tolerance of an I/P converter whose Accuracy % is blank, % of output span. From memory:
+#: makers of general-purpose I/P converters commonly state an accuracy of 0.5 to 1 % of
+#: span; the looser figure is taken, the same as the 1 % of travel valves take.
+CONVERTER_TOLERANCE_PCT = 1.0
+CONVERTER_TOLERANCE_BASIS = (
+    f"Accuracy % blank: {CONVERTER_TOLERANCE_PCT:g} % of span taken "
+    "(typical stated accuracy of an I/P converter, 0.5 to 1 % of span)"
+)
+
+
+def _converter_with_tolerance(tag: Tag, in_span: SignalSpan, out_span: SignalSpan) -> CalibrationTable:
+    """The converter table with Accuracy % of span, or ``CONVERTER_TOLERANCE_PCT`` when it is blank."""
+    if tag.accuracy_pct is not None:
+        return converter_table(tag.tag, in_span, out_span, tag.accuracy_pct)
+    table = converter_table(tag.tag, in_span, out_span, CONVERTER_TOLERANCE_PCT)
+    assert table.tolerance is not None
+    return replace(table, tolerance=replace(table.tolerance, basis=CONVERTER_TOLERANCE_BASIS))
 
 
 _NOT_CALIBRATED = {
@@ -305,7 +324,7 @@ def _split_group_tables(project: Project) -> tuple[dict[str, list[CalibrationTab
             if isinstance(stroke, Skipped):
                 skipped[element.tag] = stroke
             else:
-                tables[element.tag] = [stroke]
+                tables[element.tag] = _with_fail_action(element.record, stroke, element.settings)
             if group.is_split and element.intent is not None:
                 loop_checks.append(_loop_check_for(group, element))
         if loop_checks:
@@ -338,11 +357,28 @@ def _stroke_for(element: Any) -> CalibrationTable | Skipped:
     return table.with_context(loop=element.loop, service=record.service or "", notes=notes)
 
 
+def _with_fail_action(record: Tag, stroke: CalibrationTable, settings: Any) -> list[CalibrationTable]:
+    """The stroke table and the fail-action test row (``loopdocs.calc.fail_action``);
+    where there is no row (FAI, fail position unknown) the stroke table says why."""
+    from loopdocs.calc.fail_action import fail_action_table, fail_position_of
+
+    air = record.air_action.value if record.air_action else None
+    position, taken = fail_position_of(record.fail_position.value if record.fail_position else None, air)
+    test = fail_action_table(record.tag, position, settings, stroke.tolerance)
+    if isinstance(test, str):
+        return [stroke.with_context(notes=[f"no fail-action test: {test}"])]
+    return [stroke, test.with_context(loop=stroke.loop, service=stroke.service, notes=[taken] if taken else [])]
+
+
 def _loop_check_for(group: Any, element: Any) -> CalibrationTable:
-    """CO every 10 % against the expected travel of one element of a split group."""
+    """CO every 10 % and at every element's CO start and end (the boundaries and the edges
+    of gaps and overlaps, the same points for every element of the group) against the
+    expected travel of one element of a split group."""
     record: Tag = element.record
     scaling = element.required_dcs_scaling if element.method == "dcs" else None
-    table = loop_check_table(element.tag, element.intent, element.settings, scaling, record.accuracy_pct)
+    edges = [v for e in group.elements if e.intent is not None for v in (e.co_start_pct, e.co_end_pct)]
+    table = loop_check_table(element.tag, element.intent, element.settings, scaling, record.accuracy_pct,
+                             edges_pct=edges)
     notes = [f"{group.mode} split driven by {group.controller} ({element.method})"]
     if element.intent_source == "settings":
         notes.append("travel not stated in the index: expected travel taken from the positioner settings")
@@ -358,6 +394,6 @@ def _group_converter(relay: Tag) -> CalibrationTable | Skipped:
     span, reason = output_span(relay.signal)
     if reason or span is None:
         return Skipped(relay.tag, reason or "converter with a digital output", relay.loop)
-    table = converter_table(relay.tag, MA_4_20, span, relay.accuracy_pct)
-    notes = _accuracy_note(relay) + ["Range blank: 4-20 mA input taken"]
+    table = _converter_with_tolerance(relay, MA_4_20, span)
+    notes = ["Range blank: 4-20 mA input taken"]
     return table.with_context(loop=relay.loop, service=relay.service or "", notes=notes)

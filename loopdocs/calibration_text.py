@@ -51,12 +51,14 @@ def print_calibration(cset: CalibrationSet) -> None:
 
     console = Console(highlight=False)
     console.print(f"[bold]{cset.project}[/] ({cset.index_path}): {len(cset.tables)} table(s)")
-    basis = {"final element": "% travel", "loop check": "% CO"}
+    basis = {"final element": "% travel", "fail action": "% travel held", "loop check": "% CO"}
     for t in cset.tables:
         lo, hi = t.input_range
         olo, ohi = t.output_range
         title = f"{t.tag} {t.kind}" + (f": {t.service}" if t.service else "")
-        if t.kind != "loop check":
+        if t.kind == "fail action":
+            title += f"  (hold {lo.value:.4g} {lo.unit}, remove the air: valve travel {t.points[0].output.value:g} %)"
+        elif t.kind != "loop check":
             title += f"  [{lo.value:g} to {hi.value:g} {lo.unit} -> {olo.value:g} to {ohi.value:g} {olo.unit}]"
         table = Table(title=title, title_justify="left", expand=False)
         table.add_column(basis.get(t.kind, "% span"), justify="right")
@@ -78,8 +80,9 @@ def print_calibration(cset: CalibrationSet) -> None:
             caption.append(ne43_note(t.ne43))
         if t.dcs_scaling and t.kind == "final element":
             sc = t.dcs_scaling
-            caption.append(f"control system: output 0 % at CO {sc.co_at_0_pct:g} %, 100 % at CO {sc.co_at_100_pct:g} %"
-                           + (" (reversed)" if sc.reversed else ""))
+            caption.append(f"control system: output signal 0 % at controller output {sc.co_at_0_pct:g} %, "
+                           f"100 % at controller output {sc.co_at_100_pct:g} %"
+                           + (" (reversed: the output signal falls as the controller output rises)" if sc.reversed else ""))
         caption += list(t.notes)
         if caption:
             table.caption = "\n".join(caption)
@@ -89,4 +92,24 @@ def print_calibration(cset: CalibrationSet) -> None:
         console.print(f"[bold]{len(cset.skipped)} tag(s) without a table:[/]")
         for s in cset.skipped:
             console.print(f"  {s.tag}: {s.reason}")
+    console.print(f"[bold red]CAUTION:[/] {CAUTION}")
+
+
+def print_summary(cset: CalibrationSet) -> None:
+    """What a written workbook holds, in a few lines: tables by kind, tags skipped."""
+    from collections import Counter
+
+    from rich.console import Console
+
+    from loopdocs.report import CAUTION
+
+    console = Console(highlight=False)
+    tags = {t.tag for t in cset.tables}
+    kinds = Counter(t.kind for t in cset.tables)
+    by_kind = ", ".join(f"{n} {kind}" for kind, n in kinds.items())
+    console.print(f"[bold]{cset.project}[/] ({cset.index_path}): {len(cset.tables)} table(s) for {len(tags)} tag(s)"
+                  + (f" ({by_kind})" if by_kind else ""))
+    if cset.skipped:
+        console.print(f"{len(cset.skipped)} tag(s) without a table (listed with the reason on the Contents sheet): "
+                      + ", ".join(s.tag for s in cset.skipped[:10]) + (" ..." if len(cset.skipped) > 10 else ""))
     console.print(f"[bold red]CAUTION:[/] {CAUTION}")

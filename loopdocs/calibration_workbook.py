@@ -47,6 +47,7 @@ CHECK_NAMES = {
     "sensor": "sensor",
     "converter": "converter",
     "final element": "stroke",
+    "fail action": "fail action",
     "loop check": "loop check",
 }
 POINT_BASIS = {
@@ -54,6 +55,7 @@ POINT_BASIS = {
     "sensor": "% of range",
     "converter": "% of span",
     "final element": "% travel",
+    "fail action": "% travel",
     "loop check": "% CO",
 }
 
@@ -61,6 +63,9 @@ RECORD_COLUMNS = (
     "ref", "sheet", "tag", "check", "loop", "percent", "direction", "apply", "apply_unit",
     "expected", "unit", "low", "high", "output_span", "tolerance_pct", "digest",
 )
+
+#: Ref of a test row: ``TAG/NN``; a loop check's ``TAG/LNN``, a fail-action test's ``TAG/FNN``.
+_REF_PREFIX = {"loop check": "L", "fail action": "F"}
 
 _FILL_TITLE = "DCE6F1"
 _FILL_HEADER = "BFBFBF"
@@ -199,13 +204,16 @@ def _title_text(table: CalibrationTable) -> str:
         "sensor": "sensor on its own",
         "converter": "signal converter",
         "final element": "valve stroke",
+        "fail action": "fail action (remove the air supply)",
         "loop check": "split-range loop check",
     }.get(table.kind, table.kind)
     parts = [f"{table.tag}  {what}"]
     if table.service:
         parts.append(table.service)
     if table.kind == "loop check":
-        parts.append("expected travel at every 10 % of controller output")
+        parts.append("expected valve travel at every 10 % of controller output")
+    elif table.kind == "fail action":
+        parts.append(f"expected valve travel {table.points[0].output.value:g} % after the air is removed")
     else:
         parts.append(f"{lo.value:g} to {hi.value:g} {lo.unit} -> {olo.value:g} to {ohi.value:g} {olo.unit}")
     tol = table.tolerance
@@ -216,8 +224,12 @@ def _title_text(table: CalibrationTable) -> str:
         if tol.input is not None:
             bits.append(f"+/-{tol.input.value:.4g} {tol.input.unit}")
         bits.append(f"+/-{tol.output.value:.4g} {tol.output.unit}")
-        parts.append("tolerance " + " = ".join(bits))
+        parts.append("tolerance " + " = ".join(bits) + (f" ({tol.basis})" if tol.basis != _INDEX_BASIS else ""))
     return "  |  ".join(parts)
+
+
+#: The tolerance basis of a table whose Accuracy % is in the index (``calc.calibration.tolerance_of``).
+_INDEX_BASIS = "Accuracy % in the index"
 
 
 def _note_lines(table: CalibrationTable) -> list[str]:
@@ -227,8 +239,9 @@ def _note_lines(table: CalibrationTable) -> list[str]:
     if table.dcs_scaling is not None and table.kind == "final element":
         sc = table.dcs_scaling
         lines.append(
-            f"ENTER IN THE CONTROL SYSTEM for {table.tag}: output 0 % at CO {sc.co_at_0_pct:g} %, "
-            f"output 100 % at CO {sc.co_at_100_pct:g} %" + (" (reversed output)" if sc.reversed else "")
+            f"ENTER IN THE CONTROL SYSTEM for {table.tag}: output signal 0 % (4 mA) at controller output "
+            f"{sc.co_at_0_pct:g} %, output signal 100 % (20 mA) at controller output {sc.co_at_100_pct:g} %"
+            + (" (reversed: the output signal falls as the controller output rises)" if sc.reversed else "")
             + "; positioner set to the full 4-20 mA"
         )
     return lines
@@ -273,7 +286,7 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     columns += ["Expected", "Unit", "Low limit", "High limit", "As-Found", "As-Left", "Remarks"]
     col = {name: i + 1 for i, name in enumerate(columns)}
     col_rj = col.get(f"Simulate, RJ {rj:g} degC") if rj is not None else None
-    widths = {"Ref": 12, "Tag": 12, "Check": 11, "Point": 9, "Dir": 6, "Apply": 14, SIMULATE: 13,
+    widths = {"Ref": 12, "Tag": 12, "Check": 11, "Point": 9, "Dir": 8, "Apply": 14, SIMULATE: 13,
               "Expected": 12, "Unit": 9, "Low limit": 11, "High limit": 11, "As-Found": 12, "As-Left": 12,
               "Remarks": 28}
     last_col = get_column_letter(len(columns))
@@ -341,7 +354,9 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
                 ws.cell(r, c).fill = title_fill
             r += 1
             for line in _note_lines(table):
-                ws.cell(r, 2, line).font = Font(italic=True, bold=line.startswith("ENTER"))
+                error_mark = line.startswith("index has errors")
+                ws.cell(r, 2, line).font = Font(italic=True, bold=line.startswith("ENTER") or error_mark,
+                                                color="C00000" if error_mark else None)
                 ws.merge_cells(start_row=r, start_column=2, end_row=r, end_column=len(columns))
                 r += 1
             check = CHECK_NAMES.get(table.kind, table.kind)
@@ -349,7 +364,7 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
             tol = table.tolerance
             out_dec = _decimals(table.output_span, table.output_range[0].unit, tol.output.value if tol else None)
             for i, point in enumerate(table.points, start=1):
-                ref = f"{table.tag}/{'L' if table.kind == 'loop check' else ''}{i:02d}"
+                ref = f"{table.tag}/{_REF_PREFIX.get(table.kind, '')}{i:02d}"
                 expected = point.output.value
                 low = expected - tol.output.value if tol else None
                 high = expected + tol.output.value if tol else None
@@ -458,12 +473,17 @@ _INSTRUCTIONS = (
     "2. Apply the value in the Apply column, or source the Simulate value (ohm for RTDs, mV for thermocouples). "
     "In a loop check, set the controller output (manual) to the Apply value; the signal column is what the element "
     "should receive.",
-    "3. Read the output and write it in As-Found before any adjustment. Write As-Left after adjusting; "
+    "3. Read the output signal (mA, psig, kPa) or the valve travel (%) and write it in As-Found before any "
+    "adjustment. Write As-Left after adjusting; "
     "if nothing was adjusted, As-Found stands and As-Left may stay blank.",
     "4. Go up through the points, then down; approach each falling point from above (past 100 % first).",
-    "5. Leave a cell blank when the point was not tested: blank is never a pass.",
-    "6. Do not edit Ref, Apply, Expected or the limits: loopdocs verify refuses rows whose issued values changed.",
-    "7. Cells turn green inside the limits and red outside them. Return the file for loopdocs verify.",
+    "5. Fail action (one row per valve): hold the valve at 50 % travel, remove the instrument air supply (or the "
+    "signal, for an electric actuator) and write the valve travel it comes to rest at.",
+    "6. A transmitter reading at or below 3.6 mA or at or above 21 mA is a failure signal (NAMUR NE 43): write it "
+    "as read; loopdocs verify reports it as a failure current.",
+    "7. Leave a cell blank when the point was not tested: blank is never a pass.",
+    "8. Do not edit Ref, Apply, Expected or the limits: loopdocs verify refuses rows whose issued values changed.",
+    "9. Cells turn green inside the limits and red outside them. Return the file for loopdocs verify.",
 )
 
 

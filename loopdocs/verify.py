@@ -7,7 +7,11 @@ Rules (each point is one issued test row):
   expected, unit, limits) no longer match the record's digest (or the record row its
   own digest). A refused row is reported, never judged.
 - a reading cell (As-Found, As-Left) that is blank is **not tested**, never passed;
-  one that is not a number is **invalid** (counts as a failure);
+  one that is not a number is **invalid** (counts as a failure; a tag whose only
+  problem is such cells is **invalid entries**, not fail: the readings are unknown);
+- a 4-20 mA transmitter output read at or below 3.6 mA or at or above 21 mA is a
+  **failure current** (NAMUR NE 43 failure signal: the transmitter reports a fault),
+  not a point out of tolerance; it has no error in % of span;
 - error, % of span = ``(reading - expected) / output span * 100``; **pass** when
   ``|error| <= tolerance`` (Accuracy % of span; 1e-9 slack for rounding), else **fail**;
   a row issued without a tolerance is **no tolerance** (shown, not passed);
@@ -19,8 +23,12 @@ Rules (each point is one issued test row):
   nothing was adjusted); judged hysteresis above the tolerance is flagged (reported,
   not a failure: each reading is already judged on its own).
 
+The largest as-found and the largest as-left error of each tag are both reported
+(signed, the one of largest magnitude).
+
 Exit code (``VerifyReport.exit_code``): 0 when every tested point passes; 1 when a point
-fails, is invalid, has no tolerance, a row is refused, or no point at all was tested.
+fails, reads a failure current, is invalid, has no tolerance, a row is refused, or no
+point at all was tested.
 """
 
 from __future__ import annotations
@@ -29,11 +37,17 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-from loopdocs.calibration_workbook import ReturnedWorkbook, SeenRow, IssuedRow, canonical_text
+from loopdocs.calc.signals import NE43Levels, ne43_levels
+from loopdocs.calibration_workbook import CHECK_NAMES, ReturnedWorkbook, SeenRow, IssuedRow, canonical_text
 
 PASS, FAIL, NOT_TESTED, INVALID, NO_TOLERANCE, REFUSED = (
     "pass", "fail", "not tested", "invalid", "no tolerance", "refused",
 )
+FAILURE_CURRENT = "failure current"
+#: Tag status when its only problem is unreadable reading cells.
+INVALID_ENTRIES = "invalid entries"
+STATUSES = (PASS, FAIL, FAILURE_CURRENT, INVALID, NO_TOLERANCE, NOT_TESTED, REFUSED)
+_BAD = (FAIL, FAILURE_CURRENT, INVALID)
 _SLACK_PCT = 1e-9
 
 
@@ -101,23 +115,28 @@ class TagResult:
 
     @property
     def counts(self) -> dict[str, int]:
-        result = {s: 0 for s in (PASS, FAIL, INVALID, NO_TOLERANCE, NOT_TESTED, REFUSED)}
+        result = {s: 0 for s in STATUSES}
         for p in self.points:
             result[p.status] += 1
         return result
 
     @property
     def as_found_failures(self) -> int:
-        return sum(1 for p in self.points if p.as_found is not None and p.as_found.status in (FAIL, INVALID))
+        return sum(1 for p in self.points if p.as_found is not None and p.as_found.status in _BAD)
 
     @property
     def status(self) -> str:
-        """refused, fail, no tolerance, not tested, incomplete (some points blank) or pass."""
+        """refused, failure current, fail, invalid entries, no tolerance, not tested,
+        incomplete (some points blank) or pass."""
         c = self.counts
         if c[REFUSED]:
             return REFUSED
-        if c[FAIL] or c[INVALID]:
+        if c[FAILURE_CURRENT]:
+            return FAILURE_CURRENT
+        if c[FAIL]:
             return FAIL
+        if c[INVALID]:
+            return INVALID_ENTRIES
         if c[NO_TOLERANCE]:
             return NO_TOLERANCE
         if not c[PASS]:
@@ -130,6 +149,16 @@ class TagResult:
         return max(errors) if errors else None
 
     @property
+    def largest_as_found_error_pct(self) -> float | None:
+        """The As-Found error of largest magnitude, signed, % of span."""
+        return _largest(p.as_found for p in self.points)
+
+    @property
+    def largest_as_left_error_pct(self) -> float | None:
+        """The As-Left error of largest magnitude, signed, % of span (None: nothing adjusted)."""
+        return _largest(p.as_left for p in self.points)
+
+    @property
     def max_hysteresis_pct(self) -> float | None:
         values = [v for h in self.hysteresis for v in (h.as_found_pct, h.as_left_pct) if v is not None]
         return max(values) if values else None
@@ -138,7 +167,10 @@ class TagResult:
         return {
             "tag": self.tag, "check": self.check, "loop": self.loop, "status": self.status,
             "counts": self.counts, "as_found_failures": self.as_found_failures,
-            "max_error_pct_of_span": self.max_error_pct, "max_hysteresis_pct_of_span": self.max_hysteresis_pct,
+            "max_error_pct_of_span": self.max_error_pct,
+            "largest_as_found_error_pct_of_span": self.largest_as_found_error_pct,
+            "largest_as_left_error_pct_of_span": self.largest_as_left_error_pct,
+            "max_hysteresis_pct_of_span": self.max_hysteresis_pct,
             "points": [p.as_json() for p in self.points],
             "hysteresis": [h.as_json() for h in self.hysteresis],
         }
@@ -155,7 +187,7 @@ class VerifyReport:
 
     @property
     def counts(self) -> dict[str, int]:
-        total = {s: 0 for s in (PASS, FAIL, INVALID, NO_TOLERANCE, NOT_TESTED, REFUSED)}
+        total = {s: 0 for s in STATUSES}
         for t in self.tags:
             for k, v in t.counts.items():
                 total[k] += v
@@ -165,12 +197,12 @@ class VerifyReport:
     @property
     def tested(self) -> int:
         c = self.counts
-        return c[PASS] + c[FAIL] + c[INVALID] + c[NO_TOLERANCE]
+        return c[PASS] + c[FAIL] + c[FAILURE_CURRENT] + c[INVALID] + c[NO_TOLERANCE]
 
     @property
     def exit_code(self) -> int:
         c = self.counts
-        bad = c[FAIL] + c[INVALID] + c[NO_TOLERANCE] + c[REFUSED]
+        bad = c[FAIL] + c[FAILURE_CURRENT] + c[INVALID] + c[NO_TOLERANCE] + c[REFUSED]
         return 1 if bad or self.tested == 0 else 0
 
     def as_json(self) -> dict[str, Any]:
@@ -191,13 +223,24 @@ def _final(point: PointResult) -> Reading | None:
     return point.as_found
 
 
-def judge_reading(value: Any, expected: float, span: float, tolerance_pct: float | None) -> Reading:
-    """One reading cell against the expected value (module docstring).
+def _largest(readings: Any) -> float | None:
+    errors = [r.error_pct for r in readings if r is not None and r.error_pct is not None]
+    return max(errors, key=abs) if errors else None
+
+
+def judge_reading(
+    value: Any, expected: float, span: float, tolerance_pct: float | None, ne43: NE43Levels | None = None
+) -> Reading:
+    """One reading cell against the expected value (module docstring); with ``ne43``
+    (a 4-20 mA output) a reading at or beyond the NAMUR NE 43 failure limits is a
+    failure current.
 
     >>> judge_reading(12.03, 12.0, 16.0, 0.25)
     Reading(value=12.03, error_pct=0.1875, status='pass')
     >>> judge_reading(None, 12.0, 16.0, 0.25).status, judge_reading("OK", 12.0, 16.0, 0.25).status
     ('not tested', 'invalid')
+    >>> judge_reading(3.55, 4.0, 16.0, 0.25, ne43_levels()).status
+    'failure current'
     """
     if value is None or (isinstance(value, str) and not value.strip()):
         return Reading(None, None, NOT_TESTED)
@@ -209,6 +252,8 @@ def judge_reading(value: Any, expected: float, span: float, tolerance_pct: float
         return Reading(None, None, INVALID)
     if not math.isfinite(number):
         return Reading(None, None, INVALID)
+    if ne43 is not None and (number <= ne43.failure_at_or_below_ma or number >= ne43.failure_at_or_above_ma):
+        return Reading(number, None, FAILURE_CURRENT)
     error_pct = (number - expected) / span * 100.0 if span else None
     if tolerance_pct is None or error_pct is None:
         return Reading(number, error_pct, NO_TOLERANCE)
@@ -254,17 +299,39 @@ def judge_point(issued: IssuedRow, seen: list[SeenRow]) -> PointResult:
     if reason:
         return PointResult(**base, as_found=None, as_left=None, status=REFUSED, reason=reason)
     assert row is not None
-    found = judge_reading(row.as_found, issued.expected, issued.output_span, issued.tolerance_pct)
-    left = judge_reading(row.as_left, issued.expected, issued.output_span, issued.tolerance_pct)
+    ne43 = _ne43_for(issued)
+    found = judge_reading(row.as_found, issued.expected, issued.output_span, issued.tolerance_pct, ne43)
+    left = judge_reading(row.as_left, issued.expected, issued.output_span, issued.tolerance_pct, ne43)
     final = left if left.status != NOT_TESTED else found
-    note = ""
-    if left.status == PASS and found.status in (FAIL, INVALID):
-        note = "as-found out of tolerance, corrected"
+    notes = []
+    for label, reading in (("as-found", found), ("as-left", left)):
+        if reading.status == FAILURE_CURRENT:
+            notes.append(f"{label} failure current {reading.value:g} mA: NE 43 failure signal (the transmitter "
+                         "reports a fault; find the fault before calibrating)")
+    if left.status == PASS and found.status in _BAD:
+        notes.append("as-found " + ("failure current" if found.status == FAILURE_CURRENT else "out of tolerance")
+                     + ", corrected")
     elif left.status == NOT_TESTED and found.status != NOT_TESTED:
-        note = "no As-Left: As-Found stands"
+        notes.append("no As-Left: As-Found stands")
+    if final.status == FAIL and issued.check == CHECK_NAMES["fail action"]:
+        notes.append(f"valve travel {final.value:g} %: the valve did not reach its fail position "
+                     f"({issued.expected:g} % travel)")
+    note = "; ".join(notes)
     if final.status == NO_TOLERANCE:
         note = "no tolerance in the index: reading recorded, not judged"
     return PointResult(**base, as_found=found, as_left=left, status=final.status, reason=note)
+
+
+def _ne43_for(issued: IssuedRow) -> NE43Levels | None:
+    """NE 43 levels for a transmitter row whose output signal is 4-20 mA, else None."""
+    if issued.check == CHECK_NAMES["transmitter"] and issued.unit == "mA":
+        return ne43_levels()
+    return None
+
+
+def _measured(reading: Reading | None) -> bool:
+    """A reading with a value that measures the process (not a NE 43 failure current)."""
+    return reading is not None and reading.value is not None and reading.status != FAILURE_CURRENT
 
 
 def hysteresis_of(points: list[PointResult], span: float) -> list[Hysteresis]:
@@ -272,7 +339,7 @@ def hysteresis_of(points: list[PointResult], span: float) -> list[Hysteresis]:
 
     ``as_found_pct`` from the As-Found readings; ``as_left_pct`` from the readings each
     point is judged on (As-Left, or As-Found where nothing was adjusted), which is also
-    the one compared with the tolerance.
+    the one compared with the tolerance. A failure current measures nothing: left out.
     """
     by_pct: dict[float, dict[str, PointResult]] = {}
     for p in points:
@@ -284,7 +351,7 @@ def hysteresis_of(points: list[PointResult], span: float) -> list[Hysteresis]:
             continue
         values = []
         for a, b in ((up.as_found, down.as_found), (_final(up), _final(down))):
-            if a is not None and b is not None and a.value is not None and b.value is not None:
+            if _measured(a) and _measured(b):
                 values.append(abs(a.value - b.value) / span * 100.0)
             else:
                 values.append(None)

@@ -6,7 +6,8 @@ from pathlib import Path
 
 from loopdocs.verify import VerifyReport
 
-_STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "invalid": "FFC7CE", "refused": "F4B084",
+_STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "failure current": "FFC7CE", "invalid": "FFC7CE",
+                "invalid entries": "FFC7CE", "refused": "F4B084",
                 "no tolerance": "FFEB9C", "incomplete": "FFEB9C", "not tested": "EDEDED"}
 
 
@@ -28,11 +29,13 @@ def write_summary(report: VerifyReport, path: Path) -> None:
     ws.append(["CAUTION: " + CAUTION])
     ws["A2"].font = Font(bold=True, color="C00000")
     c = report.counts
-    ws.append([f"{report.tested} point(s) tested: {c['pass']} pass, {c['fail']} fail, {c['invalid']} invalid, "
+    ws.append([f"{report.tested} point(s) tested: {c['pass']} pass, {c['fail']} fail, "
+               f"{c['failure current']} failure current, {c['invalid']} invalid entries, "
                f"{c['no tolerance']} without tolerance, {c['refused']} refused, {c['not tested']} not tested"])
     ws.append([])
-    header = ["Tag", "Check", "Loop", "Status", "Pass", "Fail", "Invalid", "No tolerance", "Refused", "Not tested",
-              "As-found failures", "Max error, % of span", "Max hysteresis, % of span"]
+    header = ["Tag", "Check", "Loop", "Status", "Pass", "Fail", "Failure current", "Invalid entries", "No tolerance",
+              "Refused", "Not tested", "As-found failures", "Largest as-found error, % of span",
+              "Largest as-left error, % of span", "Max hysteresis, % of span"]
     ws.append(header)
     for cell in ws[5]:
         cell.font = bold
@@ -40,12 +43,14 @@ def write_summary(report: VerifyReport, path: Path) -> None:
     ws.row_dimensions[5].height = 30
     for t in report.tags:
         k = t.counts
-        ws.append([t.tag, t.check, t.loop, t.status, k["pass"], k["fail"], k["invalid"], k["no tolerance"], k["refused"],
-                   k["not tested"], t.as_found_failures, _round(t.max_error_pct), _round(t.max_hysteresis_pct)])
+        ws.append([t.tag, t.check, t.loop, t.status, k["pass"], k["fail"], k["failure current"], k["invalid"],
+                   k["no tolerance"], k["refused"], k["not tested"], t.as_found_failures,
+                   _round(t.largest_as_found_error_pct), _round(t.largest_as_left_error_pct),
+                   _round(t.max_hysteresis_pct)])
         ws.cell(ws.max_row, 4).fill = PatternFill("solid", fgColor=_STATUS_FILL.get(t.status, "FFFFFF"))
     ws.freeze_panes = "A6"
     ws.print_title_rows = "5:5"
-    for letter, width in zip("ABCDEFGHIJKLM", (14, 12, 10, 12, 6, 6, 8, 12, 8, 10, 14, 18, 22)):
+    for letter, width in zip("ABCDEFGHIJKLMNO", (14, 12, 10, 14, 6, 6, 9, 9, 12, 8, 10, 14, 18, 18, 22)):
         ws.column_dimensions[letter].width = width
 
     pts = wb.create_sheet("Points")

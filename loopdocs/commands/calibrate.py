@@ -1,5 +1,6 @@
-"""``loopdocs calibrate``: calibration tables per tag, as text, DESIGN §5 JSON, or the
-technicians' workbook."""
+"""``loopdocs calibrate``: calibration tables per tag, as text, JSON, or the technicians'
+workbook. The index is checked as ``loopdocs check`` does: on errors the tables of the
+tags involved are marked (``loopdocs.calibration_marks``) and the exit code is 1."""
 
 from __future__ import annotations
 
@@ -42,10 +43,15 @@ def calibrate(
 ) -> None:
     """Calibration values for every transmitter, sensor, converter and final element.
 
-    Exit code 0 when written, 2 when the input could not be read or an option is wrong.
+    The index is checked first, as loopdocs check does; the tables of tags with errors carry a note naming the error.
+
+    With --out the workbook is written and only a summary is printed.
+
+    Exit code 0 when done, 1 when the index has errors (tables still given, marked), 2 when the input could not be read or an option is wrong.
     """
     from loopdocs.calibration import calibration_set
-    from loopdocs.pipeline import load_project
+    from loopdocs.calibration_marks import mark_index_errors
+    from loopdocs.pipeline import check_project
 
     try:
         if pressure_unit:
@@ -53,8 +59,10 @@ def calibrate(
 
             if not is_pressure(pressure_unit):
                 raise InputError(f"--pressure-unit {pressure_unit!r} is not a pressure unit pint knows (kPa, psi, mbar ...)")
-        project, _ = load_project(path)
-        cset = calibration_set(project, reference_junction_c=ref_junction_c, calibrator_unit=pressure_unit)
+        checked = check_project(path)
+        cset = calibration_set(checked.project, reference_junction_c=ref_junction_c, calibrator_unit=pressure_unit)
+        errors = [f for f in checked.findings if f.counts_as_error]
+        cset, marked = mark_index_errors(cset, errors)
         if tag:
             cset = cset.select(tag)
             if not cset.tables and not cset.skipped:
@@ -69,13 +77,27 @@ def calibrate(
     except InputError as exc:
         fail_input(exc)
     if format is OutputFormat.json:
-        emit_json(cset.as_json())
-    else:
+        emit_json({**cset.as_json(), "index_errors": [f.as_json() for f in errors]})
+    elif out is None:
         from loopdocs.calibration_text import print_calibration
 
         print_calibration(cset)
+    else:
+        from loopdocs.calibration_text import print_summary
+
+        print_summary(cset)
+    err = format is OutputFormat.json
     if out is not None:
-        typer.echo(f"wrote {out}: {sum(counts.values())} test points on {len(counts)} sheet(s)", err=format is OutputFormat.json)
+        typer.echo(f"wrote {out}: {sum(counts.values())} test points on {len(counts)} sheet(s)", err=err)
+    if errors:
+        shown = sorted(marked)
+        typer.echo(
+            f"the index has {len(errors)} error(s); run loopdocs check {path} for the cells to fix. "
+            + (f"Tables marked for {len(shown)} tag(s): {', '.join(shown[:10])}" + (" ..." if len(shown) > 10 else "")
+               if shown else "No table is affected."),
+            err=err,
+        )
+        raise typer.Exit(1)
 
 
 def register(app: typer.Typer) -> None:

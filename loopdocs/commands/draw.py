@@ -19,8 +19,7 @@ PROGRESS_FROM_LOOPS = 20
 def draw(path: PathArg, out: OutOpt = Path("drawings")) -> None:
     """Draw every loop (NAME.loop.svg) and every split group's range chart (NAME.range.svg).
 
-    Files whose content did not change are left as they are. Exit code 2 when the input
-    could not be read.
+    Files whose content did not change are left as they are. Exit code 2 when the input could not be read.
     """
     from loopdocs.draw.export import drawing_files, write_drawings
     from loopdocs.pipeline import check_project

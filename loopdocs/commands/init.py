@@ -12,8 +12,7 @@ from loopdocs.errors import InputError
 
 
 def init(directory: Annotated[Path, typer.Argument(help="Folder to create the starter project in.")]) -> None:
-    """Write a starter project: an index workbook with the default headers, drop-down lists
-    and header notes, and a commented loopdocs.toml."""
+    """Write a starter project: an index workbook with the default headers, drop-down lists and header notes, and a commented loopdocs.toml."""
     from loopdocs.starter import write_starter
 
     try:

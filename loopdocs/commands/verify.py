@@ -13,16 +13,18 @@ from loopdocs.errors import InputError
 WorkbookArg = Annotated[Path, typer.Argument(help="A calibration workbook written by loopdocs calibrate --out, filled in.")]
 SummaryOpt = Annotated[Optional[Path], typer.Option("--out", "-o", help="Also write the results to this .xlsx.")]
 
-_STYLE = {"pass": "green", "fail": "bold red", "invalid": "bold red", "refused": "bold magenta",
-          "no tolerance": "yellow", "incomplete": "yellow", "not tested": "dim"}
+_STYLE = {"pass": "green", "fail": "bold red", "failure current": "bold red", "invalid": "bold red",
+          "invalid entries": "bold red", "refused": "bold magenta", "no tolerance": "yellow", "incomplete": "yellow",
+          "not tested": "dim"}
+_BAD = ("fail", "failure current", "invalid", "refused", "no tolerance")
 
 
 def verify(workbook: WorkbookArg, format: FormatOpt = OutputFormat.text, out: SummaryOpt = None) -> None:
     """Error in % of span, pass/fail and hysteresis for every tested point, by tag.
 
-    Blank readings are not tested, never passed; rows whose expected values were edited
-    are refused. Exit code 0 when every tested point passes, 1 when a point fails, a row
-    is refused or nothing was tested, 2 when the workbook cannot be read.
+    Blank readings are not tested, never passed; rows whose expected values were edited are refused; a transmitter output signal read at or beyond the NAMUR NE 43 failure limits (at or below 3.6 mA, at or above 21 mA) is a failure current, not a point out of tolerance.
+
+    Exit code 0 when every tested point passes, 1 when a point fails, reads a failure current or an unreadable entry, a row is refused or nothing was tested, 2 when the workbook cannot be read.
     """
     from loopdocs.calibration_workbook import read_workbook
     from loopdocs.verify import verify as judge
@@ -51,6 +53,10 @@ def _fmt(value: float | None, digits: int = 3) -> str:
     return "" if value is None else f"{value:.{digits}f}"
 
 
+def _signed(value: float | None) -> str:
+    return "" if value is None else f"{value:+.3f}"
+
+
 def _print(report) -> None:
     from rich.console import Console
     from rich.table import Table
@@ -59,23 +65,26 @@ def _print(report) -> None:
     console.print(f"[bold]{report.path}[/]: {report.project}" + (f", revision {report.revision}" if report.revision else ""))
     table = Table(title="results by tag (errors and hysteresis in % of span)", title_justify="left")
     for name, justify in (("tag", "left"), ("check", "left"), ("status", "left"), ("tested", "right"),
-                          ("max err", "right"), ("max hyst", "right"), ("AF fail", "right")):
+                          ("largest as-found err", "right"), ("largest as-left err", "right"), ("max hyst", "right"),
+                          ("as-found fails", "right")):
         table.add_column(name, justify=justify, no_wrap=True)
     for t in report.tags:
         c = t.counts
-        tested = c["pass"] + c["fail"] + c["invalid"] + c["no tolerance"]
+        tested = c["pass"] + c["fail"] + c["failure current"] + c["invalid"] + c["no tolerance"]
         style = _STYLE.get(t.status, "")
         table.add_row(t.tag, t.check, f"[{style}]{t.status}[/]", f"{tested}/{len(t.points)}",
-                      _fmt(t.max_error_pct), _fmt(t.max_hysteresis_pct), str(t.as_found_failures or ""))
+                      _signed(t.largest_as_found_error_pct), _signed(t.largest_as_left_error_pct),
+                      _fmt(t.max_hysteresis_pct), str(t.as_found_failures or ""))
     console.print(table)
-    problems = [p for t in report.tags for p in t.points if p.status in ("fail", "invalid", "refused", "no tolerance")]
+    problems = [p for t in report.tags for p in t.points
+                if p.status in _BAD or (p.as_found is not None and p.as_found.status == "failure current")]
     problems += list(report.unknown_rows)
     if problems:
         console.print("[bold]points to look at[/]")
 
     def reading(label: str, r) -> str:
         if r is None or r.value is None:
-            return f"{label} invalid" if r is not None and r.status == "invalid" else ""
+            return f"{label} invalid entry" if r is not None and r.status == "invalid" else ""
         err = f" ({r.error_pct:+.3f} % of span)" if r.error_pct is not None else ""
         return f"{label} {r.value:g}{err}"
 
@@ -93,7 +102,8 @@ def _print(report) -> None:
         console.print(f"[yellow]hysteresis[/] {t.tag} at {h.percent:g} %: as-found {_fmt(h.as_found_pct)} %, "
                       f"judged {_fmt(h.as_left_pct)} % of span, above the tolerance")
     c = report.counts
-    console.print(f"[bold]{report.tested} point(s) tested: {c['pass']} pass, {c['fail']} fail, {c['invalid']} invalid, "
+    console.print(f"[bold]{report.tested} point(s) tested: {c['pass']} pass, {c['fail']} fail, "
+                  f"{c['failure current']} failure current, {c['invalid']} invalid entries, "
                   f"{c['no tolerance']} without tolerance, {c['refused']} refused; {c['not tested']} not tested[/]")
     if report.tested == 0:
         console.print("[bold red]nothing was tested: no pass can be given[/]")
