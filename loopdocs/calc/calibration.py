@@ -672,7 +672,7 @@ def _travel_tolerance(accuracy_pct: float | None, input_width: float | None, inp
         return tolerance_of(accuracy_pct, input_width, input_unit, 100.0, TRAVEL_UNIT)  # type: ignore[return-value]
     return tolerance_of(
         TRAVEL_TOLERANCE_PCT, input_width, input_unit, 100.0, TRAVEL_UNIT,
-        basis=f"Accuracy % blank: {TRAVEL_TOLERANCE_PCT:g} % of travel taken (DESIGN §3.2)",
+        basis=f"Accuracy % blank: {TRAVEL_TOLERANCE_PCT:g} % of travel taken (common practice for a valve stroke check)",
     )  # type: ignore[return-value]
 
 
