@@ -1,6 +1,6 @@
-"""The quantity of a unit: the table of common spellings must agree with pint.
+"""What a unit measures: the table of common spellings must agree with pint.
 
-``loopdocs.calc.units.dimension`` answers common spellings from a table so that the
+``loopdocs.calc.units.quantity_of`` answers common spellings from a table so that the
 checks need not build the unit registry; pint (a general-purpose units library) is the
 reference every entry is held to.
 """
@@ -12,17 +12,17 @@ import pytest
 from loopdocs.calc import units
 
 
-@pytest.mark.parametrize("spelling", sorted(units._COMMON_DIMENSIONS))
+@pytest.mark.parametrize("spelling", sorted(units._COMMON_QUANTITIES))
 def test_common_spelling_agrees_with_pint(spelling):
-    dims = str(units.parse_unit(spelling).dimensionality)
-    assert units._DIMENSION_NAMES.get(dims, "other") == units._COMMON_DIMENSIONS[spelling]
+    assert units.pint_quantity_of(spelling) == units._COMMON_QUANTITIES[spelling]
 
 
 @pytest.mark.parametrize("written,quantity", [
-    ("m³/h", "flow"), ("Nm3/h", "flow"), ("Sm3/h", "flow"), ("kg/h", "flow"), ("t/h", "flow"), ("USD", None),
-    ("inH2O", "pressure"), ("mbarg", "pressure"), ("kPag", "pressure"), ("°F", "temperature"), ("mm", "length"),
-    ("ohm", "other"), ("%", "ratio"), ("", None),
+    ("m³/h", "volume flow"), ("Nm3/h", "volume flow"), ("Sm3/h", "volume flow"), ("kg/h", "mass flow"),
+    ("t/h", "mass flow"), ("ft3/min", "volume flow"), ("USD", None), ("inH2O", "pressure"), ("mbarg", "pressure"),
+    ("kPag", "pressure"), ("°F", "temperature"), ("deg C", "temperature"), ("mm", "length"), ("ohm", "resistance"),
+    ("%", "ratio"), ("", None),
 ])
 def test_written_units(written, quantity):
     # pint's definitions (NIST SP 811 units); 'USD' is not a unit
-    assert units.dimension(written) == quantity
+    assert units.quantity_of(written) == quantity

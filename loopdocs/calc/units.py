@@ -120,17 +120,13 @@ def same_dimension(unit_a: str, unit_b: str) -> bool:
         return False
 
 
-#: Quantity names of the dimensions the index uses, by pint dimensionality (as text).
-_DIMENSION_NAMES = {
-    "[pressure]": "pressure",
-    "[mass] / [length] / [time] ** 2": "pressure",
-    "[temperature]": "temperature",
-    "[length]": "length",
-    "[length] ** 3 / [time]": "flow",
-    "[mass] / [time]": "flow",
-    "[current]": "current",
-    "dimensionless": "ratio",
-}
+#: Quantity names, with a unit of each that pint compares dimensions against.
+_QUANTITY_REFERENCES = (
+    ("temperature", "kelvin"), ("pressure", "pascal"), ("length", "meter"),
+    ("volume flow", "meter**3/second"), ("mass flow", "kilogram/second"),
+    ("velocity", "meter/second"), ("volume", "meter**3"), ("mass", "kilogram"),
+    ("current", "ampere"), ("voltage", "volt"), ("resistance", "ohm"),
+)
 
 
 def _spellings(units: str, prefixes: str = "") -> list[str]:
@@ -138,58 +134,72 @@ def _spellings(units: str, prefixes: str = "") -> list[str]:
     return [prefix + name for name in names for prefix in ("", *prefixes.split())]
 
 
-#: The unit spellings an index uses most, by quantity, so that the checks can tell a
-#: pressure from a flow without building the unit registry (slow to build; the
-#: ``check`` command never converts). Every entry is tested against pint.
-_COMMON_DIMENSIONS: dict[str, str] = {
+_TIMES = ("s", "min", "h", "hr", "d", "day")
+
+#: The unit spellings an index uses most (as ``unit_expression`` writes them), by
+#: quantity, so that the checks can tell a pressure from a flow without building the
+#: unit registry (slow to build; ``loopdocs check`` never converts). Every entry is
+#: tested against pint.
+_COMMON_QUANTITIES: dict[str, str] = {
     **{u: "pressure" for u in _spellings("Pa Pag Paa", "k M h") + _spellings("bar barg bara", "m")
        + ["psi", "psig", "psia", "mmH2O", "inH2O", "mmWC", "inWC", "ftWC", "ftH2O", "mmHg", "inHg", "atm", "torr"]},
     **{u: "temperature" for u in ("degC", "degF", "K", "kelvin")},
     **{u: "length" for u in ("mm", "cm", "m", "in", "ft")},
-    **{u: "flow" for u in (
-        [f"{v}/{t}" for v in ("m**3", "l", "L", "gal", "ft**3", "bbl", "kg", "g", "t", "lb", "klb")
-         for t in ("s", "min", "h", "hr", "d", "day")]
-        + ["gpm", "scfm", "scfh", "MMSCFD"])},
+    **{f"{v}/{t}": "volume flow" for v in ("m**3", "l", "L", "gal", "ft**3", "bbl") for t in _TIMES},
+    **{u: "volume flow" for u in ("gpm", "scfm", "scfh", "MMSCFD")},
+    **{f"{m}/{t}": "mass flow" for m in ("kg", "g", "t", "lb", "klb") for t in _TIMES},
+    **{u: "volume" for u in ("m**3", "l", "L", "gal", "bbl")},
+    **{u: "velocity" for u in ("m/s", "ft/s")},
     **{u: "current" for u in ("mA", "A")},
     "%": "ratio",
 }
 
 
 @cache
-def dimension(unit: str) -> str | None:
-    """The quantity a unit measures: ``pressure``, ``temperature``, ``length``, ``flow``
-    (volume or mass per time), ``current``, ``ratio``; ``other`` for any other unit pint
-    knows; ``None`` for a unit it does not know. Common spellings are answered from a
-    table without building the registry.
+def quantity_of(unit: str) -> str | None:
+    """What a unit measures: ``temperature``, ``pressure``, ``length``, ``volume flow``,
+    ``mass flow``, ``velocity``, ``volume``, ``mass``, ``current``, ``voltage``,
+    ``resistance``, ``ratio`` (%, dimensionless); ``other`` for any other unit pint knows;
+    ``None`` for a unit it does not know. Common spellings are answered from a table
+    without building the registry.
 
-    >>> dimension("inH2O"), dimension("Nm3/h"), dimension("t/h"), dimension("degF"), dimension("%")
-    ('pressure', 'flow', 'flow', 'temperature', 'ratio')
+    >>> quantity_of("inH2O"), quantity_of("Nm3/h"), quantity_of("t/h"), quantity_of("degF"), quantity_of("%")
+    ('pressure', 'volume flow', 'mass flow', 'temperature', 'ratio')
     """
     if unit is None or not str(unit).strip():
         return None
     expr = unit_expression(unit)
-    if expr in _COMMON_DIMENSIONS:
-        return _COMMON_DIMENSIONS[expr]
+    if expr in _COMMON_QUANTITIES:
+        return _COMMON_QUANTITIES[expr]
+    return pint_quantity_of(unit)
+
+
+def pint_quantity_of(unit: str) -> str | None:
+    """``quantity_of`` asked of pint alone (the reference the common-spelling table is tested against)."""
     try:
-        dims = str(parse_unit(unit).dimensionality)
+        dims = parse_unit(unit).dimensionality
     except ValueError:
         return None
-    return _DIMENSION_NAMES.get(dims, "other")
+    ureg = registry()
+    for name, reference in _QUANTITY_REFERENCES:
+        if dims == ureg.Unit(reference).dimensionality:
+            return name
+    return "ratio" if not dims else "other"
 
 
 def is_temperature(unit: str) -> bool:
     """True for a temperature unit (degC, degF, K, degR)."""
-    return dimension(unit) == "temperature"
+    return quantity_of(unit) == "temperature"
 
 
 def is_pressure(unit: str) -> bool:
     """True for a pressure unit, gauge, absolute or differential (kPa, barg, inH2O ...)."""
-    return dimension(unit) == "pressure"
+    return quantity_of(unit) == "pressure"
 
 
 def is_length(unit: str) -> bool:
     """True for a length unit (a level range in mm, m, ft)."""
-    return dimension(unit) == "length"
+    return quantity_of(unit) == "length"
 
 
 def is_flow(unit: str) -> bool:
@@ -198,7 +208,7 @@ def is_flow(unit: str) -> bool:
     >>> is_flow("Nm3/h"), is_flow("t/h"), is_flow("kPa"), is_flow("%")
     (True, True, False, False)
     """
-    return dimension(unit) == "flow"
+    return quantity_of(unit) in ("volume flow", "mass flow")
 
 
 def convert(value: float, from_unit: str, to_unit: str) -> float:

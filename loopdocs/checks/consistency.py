@@ -49,7 +49,7 @@ from dataclasses import dataclass
 from typing import Iterator
 
 from loopdocs.calc import rtd, thermocouple
-from loopdocs.calc.units import convert, parse_unit, registry
+from loopdocs.calc.units import convert, quantity_of
 from loopdocs.findings import Finding, Severity
 from loopdocs.model.records import Project, Tag
 from loopdocs.model.tagname import TagKind
@@ -176,51 +176,6 @@ def class_range_problems(
 
 
 # --------------------------------------------------------------------------- units
-
-
-#: The units an index most often holds, folded to lower case, and what they measure, so
-#: that ``loopdocs check`` needs no pint for them (pint answers for any other spelling).
-_COMMON_QUANTITY: dict[str, str] = {
-    **dict.fromkeys(("degc", "°c", "deg c", "degf", "°f", "deg f", "k"), "temperature"),
-    **dict.fromkeys(("pa", "kpa", "kpag", "kpaa", "mpa", "mpag", "mpaa", "bar", "barg", "bara", "mbar",
-                     "mbarg", "mbara", "psi", "psig", "psia", "mmh2o", "inh2o", "mmwc", "inwc", "ftwc"),
-                    "pressure"),
-    **dict.fromkeys(("mm", "cm", "m", "in", "ft"), "length"),
-    **dict.fromkeys(("m3/h", "m³/h", "nm3/h", "nm³/h", "m3/s", "l/s", "l/min", "l/h", "gpm"), "volume flow"),
-    **dict.fromkeys(("kg/h", "kg/s", "t/h", "lb/h"), "mass flow"),
-    **dict.fromkeys(("m3", "m³", "l"), "volume"),
-    "%": "ratio", "ma": "current",
-}
-
-
-def quantity_of(units: str) -> str | None:
-    """What a unit measures: ``'temperature'``, ``'pressure'``, ``'length'``, ``'volume flow'``,
-    ``'mass flow'``, ``'velocity'``, ``'volume'``, ``'mass'``, ``'ratio'`` (%, dimensionless),
-    ``'current'``, ``'voltage'``, ``'resistance'``, ``'other'``; ``None`` when not known.
-
-    >>> quantity_of("m3/h"), quantity_of("inH2O"), quantity_of("%"), quantity_of("ft3/min")
-    ('volume flow', 'pressure', 'ratio', 'volume flow')
-    """
-    common = _COMMON_QUANTITY.get(str(units).strip().lower())
-    return common if common is not None else pint_quantity(units)
-
-
-def pint_quantity(units: str) -> str | None:
-    """``quantity_of`` asked of pint (through ``calc.units``), without the common-unit table."""
-    try:
-        dims = parse_unit(units).dimensionality
-    except ValueError:
-        return None
-    ureg = registry()
-    for name, reference in (
-        ("temperature", "kelvin"), ("pressure", "pascal"), ("length", "meter"),
-        ("volume flow", "meter**3/second"), ("mass flow", "kilogram/second"),
-        ("velocity", "meter/second"), ("volume", "meter**3"), ("mass", "kilogram"),
-        ("current", "ampere"), ("voltage", "volt"), ("resistance", "ohm"),
-    ):
-        if dims == ureg.Unit(reference).dimensionality:
-            return name
-    return "ratio" if not dims else "other"
 
 
 _OK, _MAYBE = "ok", "maybe"
