@@ -227,7 +227,7 @@ class CalibrationTable:
 
 
 #: Decimals shown for signal and sensor units (calibrator resolution, common practice).
-_UNIT_DECIMALS = {"mA": 3, "mV": 3, "ohm": 3, "psig": 3, "kPa": 2, TRAVEL_UNIT: 1, CO_UNIT: 0}
+_UNIT_DECIMALS = {"mA": 3, "mV": 3, "ohm": 3, "psig": 3, "kPa": 2, TRAVEL_UNIT: 1, CO_UNIT: 2}
 
 
 def display_decimals(span: float, unit: str, resolve: float | None = None) -> int:
@@ -733,6 +733,24 @@ def element_signal_at_co(settings: Settings, co_pct: float, dcs_scaling: DcsScal
     return signal_at_fraction(settings.span, co_pct / 100.0)
 
 
+def loop_check_points_pct(edges_pct: Sequence[float] = (), step_pct: float = LOOP_CHECK_STEP_PCT) -> list[float]:
+    """CO points, %, of a split loop check: every ``step_pct`` of CO from 0 to 100, plus
+    every edge given (each element's CO start and end: the boundaries, and the edges of
+    every gap and overlap, where a dead band or a double action shows), those within 0 to
+    100 %, deduplicated (to 1e-6 % CO) and sorted (DESIGN §4).
+
+    >>> loop_check_points_pct([0, 48, 52, 100], 25)
+    [0.0, 25.0, 48.0, 50.0, 52.0, 75.0, 100.0]
+    """
+    n = int(round(100.0 / step_pct))
+    points = {round(100.0 * k / n, 6): 100.0 * k / n for k in range(n + 1)}
+    for edge in edges_pct:
+        value = float(edge)
+        if math.isfinite(value) and 0.0 <= value <= 100.0:
+            points.setdefault(round(value, 6), value)
+    return [points[key] for key in sorted(points)]
+
+
 def loop_check_table(
     tag: str,
     intent: Intent,
@@ -740,19 +758,25 @@ def loop_check_table(
     dcs_scaling: DcsScaling | None = None,
     accuracy_pct: float | None = None,
     step_pct: float = LOOP_CHECK_STEP_PCT,
+    edges_pct: Sequence[float] = (),
 ) -> CalibrationTable:
-    """Expected travel of one element of a split group at every ``step_pct`` of CO, rising then falling.
+    """Expected travel of one element of a split group at every ``step_pct`` of CO and at
+    every edge in ``edges_pct`` (:func:`loop_check_points_pct`), rising then falling.
 
     Expected travel is the intent (``split.intended_travel_pct``); with ``settings`` the
     signal at the element is shown at each point, and a note is added when the settings
-    do not realise the intent within 1 % of travel (``split.max_travel_error``).
+    do not realise the intent within 1 % of travel (``split.max_travel_error``). Give every
+    element of a group the same ``edges_pct`` (the CO starts and ends of all of them), so
+    its loop check lands on its neighbours' edges too.
 
     >>> t = loop_check_table("TV-1", Intent(52, 100, 0, 100))
     >>> [round(p.output.value, 2) for p in t.points[5:8]]  # CO 50, 60, 70 %
     [0.0, 16.67, 37.5]
+    >>> t = loop_check_table("TV-1", Intent(52, 100, 0, 100), edges_pct=[0, 48, 52, 100])
+    >>> [(p.percent, round(p.output.value, 2)) for p in t.points[5:8]]  # CO 48, 50, 52 %
+    [(48.0, 0.0), (50.0, 0.0), (52.0, 0.0)]
     """
-    n = int(round(100.0 / step_pct))
-    cos = [100.0 * k / n for k in range(n + 1)]
+    cos = loop_check_points_pct(edges_pct, step_pct)
     points = []
     for co, direction in rising_falling(cos):
         simulate: tuple[Simulated, ...] = ()
