@@ -230,14 +230,33 @@ def converter_for(tag: Tag) -> CalibrationTable | Skipped:
     span, reason = output_span(tag.signal)
     if reason or span is None:
         return Skipped(tag.tag, reason or "relay with a digital output: nothing to calibrate", tag.loop)
-    if not tag.has_range or (tag.units or "").strip().lower() != "ma":
-        return Skipped(tag.tag, "relay/converter without an input range in mA (Range Low/High, Units)", tag.loop)
+    notes: list[str] = []
+    units = (tag.units or "").strip()
+    if tag.has_range and span.unit != "mA" and units.lower() != "ma":
+        from loopdocs.calc.units import is_pressure
+
+        if is_pressure(units):
+            # an I/P row ranged in its output: input 4-20 mA, output the range as written
+            if tag.range_low >= tag.range_high:
+                return Skipped(tag.tag, f"converter output range {tag.range_low:g} to {tag.range_high:g} {units}: "
+                                        "a reverse-acting converter is not tabulated", tag.loop)
+            try:
+                table = _converter_with_tolerance(tag, MA_4_20, SignalSpan(tag.range_low, tag.range_high, units))
+            except ValueError as exc:
+                return Skipped(tag.tag, str(exc), tag.loop)
+            notes = [f"Range {tag.range_low:g} to {tag.range_high:g} {units} read as the output range; input 4-20 mA taken"]
+            return table.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
+    if not tag.has_range or units.lower() != "ma":
+        return Skipped(tag.tag, "relay/converter without an input range in mA or an output range in pressure "
+                                f"units (Range Low/High, Units; Units is {units or 'blank'})", tag.loop)
+    if tag.range_low >= tag.range_high:
+        return Skipped(tag.tag, f"converter input range {tag.range_low:g} to {tag.range_high:g} mA: a reverse-acting "
+                                "converter is not tabulated", tag.loop)
     try:
-        in_span = SignalSpan(min(tag.range_low, tag.range_high), max(tag.range_low, tag.range_high), "mA")
-        table = _converter_with_tolerance(tag, in_span, span)
+        table = _converter_with_tolerance(tag, SignalSpan(tag.range_low, tag.range_high, "mA"), span)
     except ValueError as exc:
         return Skipped(tag.tag, str(exc), tag.loop)
-    return table.with_context(loop=tag.loop, service=tag.service or "")
+    return table.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
 
 
 #: Tolerance of an I/P converter whose Accuracy % is blank, % of output span. From memory:
