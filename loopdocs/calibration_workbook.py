@@ -470,7 +470,9 @@ def _page_setup(ws: Any, cset: CalibrationSet, PageSetupProperties: Any) -> None
 _INSTRUCTIONS = (
     "How to use this workbook",
     "1. Confirm every value against the issued design before work; isolate and verify before touching live plant.",
-    "2. Apply the value in the Apply column, or source the Simulate value (ohm for RTDs, mV for thermocouples). "
+    "2. Apply the value in the Apply column, or source the Simulate value (ohm for RTDs, mV for thermocouples; "
+    "for a square-root flow transmitter ranged in flow, Apply is the flow and Simulate is the differential "
+    "pressure to apply). "
     "In a loop check, set the controller output (manual) to the Apply value; the signal column is what the element "
     "should receive.",
     "3. Read the output signal (mA, psig, kPa) or the valve travel (%) and write it in As-Found before any "
