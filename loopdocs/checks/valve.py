@@ -197,17 +197,16 @@ def control_sense(ctx: Context) -> Iterator[Finding | Unverified]:
             severity, message = capped(
                 Severity.ERROR,
                 f"{acting}, but every element then pushes the measurement further the same way ({parts}): "
-                "k*d*e > 0 for all; check Control Action", defaults)
+                "check Control Action", defaults)
             yield Finding("loop.control-sense", severity, message, loop=group.loop, tags=group_tags(group),
                           location=project.cell(ctrl, "control_action"))
             continue
         for e in wrong:
-            d, eff = e.intent.direction, e.record.effect.sign
+            d = e.intent.direction
             message = (f"{acting} and {e.tag} {_moves(e)} as CO rises ({travel_text(e)} over {segment_text(e)}); opening it "
                        f"{e.record.effect.value} the measurement, so a rising measurement "
                        f"{'opens' if k * d > 0 else 'closes'} it and pushes the measurement further up: "
-                       f"the loop pushes the wrong way "
-                       f"(k*d*e = {k:+d}*{d:+d}*{eff:+d} > 0); one of Control Action, the travel or Effect is wrong")
+                       "the loop pushes the wrong way; one of Control Action, the travel or Effect is wrong")
             severity, message = capped(Severity.ERROR, message, defaults_used(e, ("travel",)))
             yield Finding("loop.control-sense", severity, message, loop=group.loop, tags=(ctrl.tag, e.tag),
                           location=project.cell(e.record, "effect"))
