@@ -173,6 +173,8 @@ def control_sense(ctx: Context) -> Iterator[Finding | Unverified]:
             continue
         if ctrl.kind is not TagKind.CONTROLLER:
             continue
+        if ctrl.parts.variable == "H" and ctrl.control_action is None:
+            continue  # a hand controller: the operator sets its output, it has no control action (ISA-5.1 H = hand)
         if ctrl.control_action is None:
             yield Unverified(ctrl.tag, "the control sense (Control Action blank)", group.loop, group_tags(group),
                              project.cell(ctrl, "control_action"))
