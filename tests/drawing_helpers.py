@@ -39,6 +39,20 @@ def write_csv(path: Path, rows: list[dict]) -> Path:
     return path
 
 
+def write_xlsx(path: Path, rows: list[dict]) -> Path:
+    """The same index as :func:`write_csv`, as a real workbook (openpyxl), sheet "Index"."""
+    from openpyxl import Workbook
+
+    book = Workbook()
+    sheet = book.active
+    sheet.title = "Index"
+    sheet.append([c.header for c in COLUMNS])
+    for row in rows:
+        sheet.append([row.get(c.key) for c in COLUMNS])
+    book.save(path)
+    return path
+
+
 def overlap_problems(layout) -> list[str]:
     """Every text that overlaps another text, a symbol (other than the one it is drawn
     in) or a line, from the boxes of the layout."""
@@ -118,3 +132,51 @@ def check_svg11(text: str) -> None:
         assert element.tag.startswith(SVG_NS), element.tag
         assert element.tag[len(SVG_NS):] in SVG11_ELEMENTS, element.tag
     return root
+
+
+# Lines of a range chart a text must keep off: the element lines, the intent and
+# capacity lines, the boundary verticals, the plot frame and the signal axis (grid lines
+# and shading are pale and may run under a text).
+CHART_SOLID_ROLES = ("curve:", "intent:", "capacity", "boundary", "recommended-boundary", "plot-frame",
+                     "signal-axis")
+
+
+def chart_overlap_problems(chart) -> list[str]:
+    """Every text of a range chart that overlaps another text, leaves the canvas, or
+    crosses one of the chart's dark lines, from the boxes of the chart data."""
+    problems = [f"text {a.text!r} ({a.role}) overlaps text {b.text!r} ({b.role})"
+                for a, b in combinations(chart.texts, 2) if a.box.overlaps(b.box)]
+    for t in chart.texts:
+        box = t.box
+        if box.x < -1e-6 or box.y < -1e-6 or box.right > chart.width_mm + 1e-6 or box.bottom > chart.height_mm + 1e-6:
+            problems.append(f"text {t.text!r} ({t.role}) outside the canvas")
+    dark = [p for p in chart.paths if p.stroke_mm is not None and p.role.startswith(CHART_SOLID_ROLES)]
+    for t in chart.texts:
+        for path in dark:
+            pts = list(path.points) + ([path.points[0]] if path.closed else [])
+            box = t.box.grown(path.stroke_mm / 2)
+            if any(segment_meets_box(a, b, box) for a, b in zip(pts, pts[1:])):
+                problems.append(f"text {t.text!r} ({t.role}) crosses the {path.role} line")
+                break
+    return problems
+
+
+def segment_meets_box(a, b, box) -> bool:
+    """Whether the straight segment a-b passes through the inside of ``box``
+    (Liang-Barsky clipping of a segment to a rectangle)."""
+    (x0, y0), (x1, y1) = a, b
+    dx, dy = x1 - x0, y1 - y0
+    lo, hi = 0.0, 1.0
+    for p, q in ((-dx, x0 - box.x), (dx, box.right - x0), (-dy, y0 - box.y), (dy, box.bottom - y0)):
+        if abs(p) < 1e-12:
+            if q <= 1e-9:
+                return False
+            continue
+        r = q / p
+        if p < 0:
+            lo = max(lo, r)
+        else:
+            hi = min(hi, r)
+        if lo >= hi - 1e-9:
+            return False
+    return True

@@ -10,6 +10,8 @@ from itertools import combinations
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from loopdocs.calc.signals import MA_4_20
 from loopdocs.calc.split import Settings, realised_travel_pct
@@ -25,7 +27,16 @@ from loopdocs.model.groups import build_groups
 from loopdocs.pipeline import check_project
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from drawing_helpers import PEN_WIDTHS, check_svg11, parse_svg, write_csv  # noqa: E402
+from drawing_helpers import (  # noqa: E402
+    PEN_WIDTHS,
+    chart_overlap_problems,
+    check_svg11,
+    parse_svg,
+    write_csv,
+    write_xlsx,
+)
+from loopdocs.draw.range_chart import spread_centres  # noqa: E402
+from loopdocs.model.groups import fmt_pct  # noqa: E402
 
 REPO = Path(__file__).resolve().parents[1]
 EXAMPLE = REPO / "project_example"
@@ -105,7 +116,8 @@ def test_second_axis_in_the_shared_signal(charts):
     bold = {t.text: t for t in chart.texts if t.role == "tick-signal-boundary"}
     # the boundaries at CO 48 and 52 % are 4 + 16 * 0.48 = 11.68 and 12.32 mA
     assert set(bold) == {"11.68", "12.32"}
-    assert math.isclose(bold["11.68"].x, chart.x_of(48.0)) and math.isclose(bold["12.32"].x, chart.x_of(52.0))
+    assert label_points_to(chart, bold["11.68"], chart.x_of(48.0))
+    assert label_points_to(chart, bold["12.32"], chart.x_of(52.0))
     psig = {t.text for t in charts["PIC-4120"][1].texts if t.role == "tick-signal-boundary"}
     assert psig == {"4.00", "7.00"}  # 3 + 12 * 0.0833 and 3 + 12 * 0.3333 psig
 
@@ -195,6 +207,106 @@ def no_overlaps(chart: RangeChart) -> list[str]:
 def test_texts_do_not_overlap_and_stay_on_the_canvas(charts):
     for controller, (_, chart) in charts.items():
         assert no_overlaps(chart) == [], controller
+        assert chart_overlap_problems(chart) == [], controller
+
+
+def label_points_to(chart: RangeChart, label, x_mm: float) -> bool:
+    """Whether a boundary label stands over its mark at ``x_mm`` or has a leader to it."""
+    if abs(label.x - x_mm) <= 0.3:
+        return True
+    box = label.box
+    for path in chart.paths:
+        if path.role != "leader":
+            continue
+        (x0, y0), (x1, _) = path.points[0], path.points[-1]
+        if math.isclose(x0, label.x) and box.y - 0.5 <= y0 <= box.bottom + 0.5 and math.isclose(x1, x_mm):
+            return True
+    return False
+
+
+def split_rows(method: str, bounds: list[tuple[float, float]]) -> list[dict]:
+    """A controller and one valve per (CO start, CO end) pair, split in the control system
+    (own outputs) or in the positioners (input ranges from the CO bounds, 4-20 mA)."""
+    rows = [{"tag": "TIC-900", "location": "control room", "platform": "dcs", "signal": "4-20 mA",
+             "control_action": "reverse", "io_address": "AO-1"}]
+    for i, (a, b) in enumerate(bounds):
+        row = {"tag": f"TV-900{'ABCD'[i]}", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+               "driven_by": "TIC-900", "split_method": method, "co_start_pct": a, "co_end_pct": b,
+               "travel_start_pct": 0, "travel_end_pct": 100}
+        if method == "positioner":
+            row.update(input_low=round(4 + 16 * a / 100, 3), input_high=round(4 + 16 * b / 100, 3), input_units="mA")
+        else:
+            row["io_address"] = f"AO-{i + 2}"
+        rows.append(row)
+    return rows
+
+
+def assert_boundaries_readable(group, chart: RangeChart) -> None:
+    # every CO boundary strictly inside 0..100 % has its value once, over its line or
+    # with a leader to it; the same for the shared signal at the boundary; no text
+    # overlaps another text, leaves the canvas or crosses a dark line
+    assert chart_overlap_problems(chart) == []
+    boundaries = sorted({round(v, 6) for e in group.elements for v in (e.co_start_pct, e.co_end_pct)
+                         if 0.0 < v < 100.0})
+    labels = [t for t in chart.texts if t.role == "boundary"]
+    assert len(labels) == len(boundaries)
+    for co in boundaries:
+        label = next(t for t in labels if t.text == f"{fmt_pct(co)} %")
+        assert label_points_to(chart, label, chart.x_of(co)), co
+    if chart.signal_axis is not None:
+        assert len([t for t in chart.texts if t.role == "tick-signal-boundary"]) == len(boundaries)
+
+
+@pytest.mark.parametrize("method", ["positioner", "dcs"])
+@pytest.mark.parametrize("bounds", [[(0, 33), (35, 100)], [(0, 33), (33.5, 34.5), (35, 100)]])
+def test_close_boundaries_keep_their_own_labels(tmp_path, method, bounds):
+    # Boundaries at 33 and 35 % CO are 2.8 mm apart on a 140 mm axis, closer than the
+    # width of "33 %" (about 6 mm): drawn side by side the labels would overlap, and with
+    # four boundaries within 2 % CO there is no room for them over their lines at all.
+    # Drafting practice (ISO 128 / ISO 3098 legibility, from memory; common practice):
+    # lettering never overlaps or crosses a line, a label moved off its feature gets a
+    # leader line to it, and no value is left out.
+    result = check_project(write_xlsx(tmp_path / "index.xlsx", split_rows(method, bounds)))
+    group = next(g for g in build_groups(result.project) if g.controller == "TIC-900")
+    chart = chart_layout(group, result.findings)
+    assert_boundaries_readable(group, chart)
+    assert {"33 %", "35 %"} <= {t.text for t in chart.texts if t.role == "boundary"}
+    if method == "positioner":
+        # 4 + 16 * 0.33 = 9.28 mA and 4 + 16 * 0.35 = 9.6 mA (DESIGN §3.2), both shown
+        assert {"9.28", "9.60"} <= {t.text for t in chart.texts if t.role == "tick-signal-boundary"}
+
+
+def test_spread_centres_keeps_order_gap_and_bounds():
+    # Two 6 mm labels wanted 2.8 mm apart, 1 mm gap: pushed apart symmetrically about
+    # their mean (51.4 mm), 7 mm centre to centre (hand worked).
+    assert spread_centres([50.0, 52.8], [6.0, 6.0], 1.0, 0.0, 180.0) == [47.9, 54.9]
+    # pushed against the right bound, the row moves left as a whole
+    assert spread_centres([178.0, 179.0], [6.0, 6.0], 1.0, 0.0, 180.0) == [170.0, 177.0]
+
+
+@st.composite
+def close_splits(draw):
+    """2 to 4 elements whose neighbouring CO ranges meet, leave a gap, or overlap by up to
+    4 % CO, boundaries anywhere between 3 and 97 %."""
+    n = draw(st.integers(2, 4))
+    cuts = sorted(draw(st.lists(st.floats(3.0, 97.0), min_size=n - 1, max_size=n - 1, unique=True)))
+    bounds, start = [], 0.0
+    for cut in cuts:
+        end = round(max(cut, start + 1.0), 1)
+        bounds.append((start, end))
+        start = round(min(99.0, max(0.0, end + draw(st.sampled_from([0.0, 0.5, 1.0, 2.0, 4.0, -2.0])))), 1)
+    bounds.append((start, 100.0))
+    return draw(st.sampled_from(["positioner", "dcs"])), bounds
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(split=close_splits())
+def test_random_close_boundaries_never_overlap(tmp_path_factory, split):
+    method, bounds = split
+    path = write_csv(tmp_path_factory.mktemp("chart") / "index.csv", split_rows(method, bounds))
+    result = check_project(path)
+    for group in split_groups_to_chart(build_groups(result.project)):
+        assert_boundaries_readable(group, chart_layout(group, result.findings))
 
 
 def test_natural_size_and_svg(charts, checked):

@@ -170,6 +170,63 @@ def _signal_ticks(low: float, high: float) -> list[float]:
 # --------------------------------------------------------------------------- placement
 
 
+def spread_centres(wanted_mm: Sequence[float], widths_mm: Sequence[float], gap_mm: float,
+                   low_mm: float, high_mm: float) -> list[float]:
+    """Centres, mm, for labels in one row, each as near its ``wanted_mm`` x as it can be
+    with at least ``gap_mm`` between neighbours, in the same order, within
+    ``[low_mm, high_mm]``. Labels that would collide are pushed apart as a block around the
+    mean of their wanted centres (least squares), blocks merging until none overlap.
+
+    >>> spread_centres([50.0, 52.8], [6.0, 6.0], 1.0, 0.0, 180.0)
+    [47.9, 54.9]
+    >>> spread_centres([10.0, 80.0], [6.0, 6.0], 1.0, 0.0, 180.0)
+    [10.0, 80.0]
+    """
+    n = len(wanted_mm)
+    order = sorted(range(n), key=lambda i: wanted_mm[i])
+    # offset of each label's centre from its block's first centre
+    blocks: list[list[int]] = []
+    offsets: dict[int, float] = {}
+    starts: list[float] = []
+
+    def place(block: list[int]) -> float:
+        return sum(wanted_mm[i] - offsets[i] for i in block) / len(block)
+
+    for i in order:
+        blocks.append([i])
+        offsets[i] = 0.0
+        starts.append(wanted_mm[i])
+        while len(blocks) > 1:
+            a, b = blocks[-2], blocks[-1]
+            last = a[-1]
+            need = starts[-2] + offsets[last] + (widths_mm[last] + widths_mm[b[0]]) / 2 + gap_mm
+            if starts[-1] >= need - 1e-9:
+                break
+            shift = offsets[last] + (widths_mm[last] + widths_mm[b[0]]) / 2 + gap_mm
+            for j in b:
+                offsets[j] += shift
+            merged = a + b
+            blocks[-2:] = [merged]
+            starts[-2:] = [place(merged)]
+    centres = [0.0] * n
+    for block, start in zip(blocks, starts):
+        for i in block:
+            centres[i] = start + offsets[i]
+    # keep the row inside the bounds, moving only as much as needed
+    ranked = [centres[i] for i in order]
+    half = [widths_mm[i] / 2 for i in order]
+    if ranked:
+        over = ranked[-1] + half[-1] - high_mm
+        if over > 0:
+            ranked = [c - over for c in ranked]
+        under = low_mm - (ranked[0] - half[0])
+        if under > 0:
+            ranked = [c + under for c in ranked]
+    for k, i in enumerate(order):
+        centres[i] = round(ranked[k], 6)
+    return centres
+
+
 class _Placer:
     """Keeps the boxes already taken and finds the first free candidate for a text."""
 
@@ -328,32 +385,30 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
         chart.signal_axis = (span.unit, span.low, span.high)
         axis_y = plot.bottom + 10.3
         chart.paths.append(Path(((plot.x, axis_y), (plot.right, axis_y)), MEDIUM_MM, role="signal-axis"))
-        marks = [(co, True) for co in boundaries]
-        marks += [(100.0 * (v - span.low) / span.width, False) for v in _signal_ticks(span.low, span.high)]
-        for co, is_boundary in marks:
+        for co in boundaries:
             x = chart.x_of(co)
-            value = span.low + span.width * co / 100.0
-            for row in range(2 if is_boundary else 1):
-                label = _txt(fmt_signal(value, span.unit), x, axis_y + 2.0 + ASCENT_EM * TEXT_MM + row * LINE_MM,
-                             "middle", "tick-signal-boundary" if is_boundary else "tick-signal", bold=is_boundary)
-                if placer.free(label.box):
-                    chart.paths.append(Path(((x, axis_y), (x, axis_y + 1.5)), WIDE_MM if is_boundary else THIN_MM,
-                                            role="tick"))
-                    put(label)
-                    break
+            chart.paths.append(Path(((x, axis_y), (x, axis_y + 1.5)), WIDE_MM, role="tick"))
+        _spread_labels(chart, placer,
+                       [(chart.x_of(co), fmt_signal(span.low + span.width * co / 100.0, span.unit)) for co in boundaries],
+                       axis_y + 1.5 + LEADER_MM + ASCENT_EM * TEXT_MM, axis_y + 1.5, "tick-signal-boundary", bold=True)
+        for value in _signal_ticks(span.low, span.high):
+            x = chart.x_of(100.0 * (value - span.low) / span.width)
+            label = _txt(fmt_signal(value, span.unit), x, axis_y + 1.5 + LEADER_MM + ASCENT_EM * TEXT_MM, "middle",
+                         "tick-signal")
+            if placer.free(label.box):
+                chart.paths.append(Path(((x, axis_y), (x, axis_y + 1.5)), THIN_MM, role="tick"))
+                put(label)
         put(_txt(f"Shared output signal, {span.unit} (bold: at the boundaries)", plot.x + plot.width / 2,
                  axis_y + 2.0 + 2 * LINE_MM + ASCENT_EM * TEXT_MM, "middle", "axis-title"))
 
-    # element boundaries: thin dashed verticals, CO values above the plot
+    # element boundaries: thin dashed verticals, CO values above the plot in one row;
+    # values that would collide are spread apart, each with a leader to its line
     for co in boundaries:
         x = chart.x_of(co)
         chart.paths.append(Path(((x, plot.y), (x, plot.bottom)), THIN_MM, dash_mm=(1.2, 0.8), role="boundary"))
-        cands = [_txt(f"{fmt_pct(co)} %", x, plot.y - 1.2 - row * LINE_MM - DESCENT_EM * TEXT_MM, "middle", "boundary")
-                 for row in range(2)]
-        cands += [_txt(f"{fmt_pct(co)} %", x + 1.0, plot.y + 1.0 + ASCENT_EM * TEXT_MM + row * LINE_MM, "start",
-                       "boundary") for row in range(6)]
-        placer.place(chart, cands)
         placer.take(Rect(x - 0.4, plot.y, 0.8, plot.height))
+    _spread_labels(chart, placer, [(chart.x_of(co), f"{fmt_pct(co)} %") for co in boundaries],
+                   plot.y - LEADER_MM - DESCENT_EM * TEXT_MM, plot.y, "boundary", bold=False)
 
     # capacity-proportional boundaries that differ from the set ones
     recommended = [r for r in (group.recommended_boundaries_pct or ()) if all(abs(r - b) > 0.5 for b in boundaries)]
@@ -477,6 +532,28 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
 
 
 LINE_MM = 3.3
+LEADER_MM = 2.0
+"""Room between a spread label row and the line or axis its leaders run to."""
+
+
+def _spread_labels(chart: RangeChart, placer: _Placer, marks: Sequence[tuple[float, str]], baseline_mm: float,
+                   target_y_mm: float, role: str, bold: bool) -> None:
+    """One row of labels at ``baseline_mm``, each as near its mark's x as the others
+    allow (:func:`spread_centres`); a label moved off its mark gets a thin leader from
+    the row to (mark x, ``target_y_mm``), so close marks never share or lose a label."""
+    if not marks:
+        return
+    widths = [text_width_mm(text, TEXT_MM, bold=bold) for _, text in marks]
+    centres = spread_centres([x for x, _ in marks], widths, 1.2, 0.5, chart.width_mm - 0.5)
+    above = target_y_mm < baseline_mm - ASCENT_EM * TEXT_MM  # the row hangs below its target
+    for (x, text), c in zip(marks, centres):
+        label = _txt(text, c, baseline_mm, "middle", role, bold=bold)
+        chart.texts.append(label)
+        placer.take(label.box)
+        if abs(c - x) > 0.3:
+            box = label.box
+            edge = box.y - 0.3 if above else box.bottom + 0.3
+            chart.paths.append(Path(((c, edge), (x, target_y_mm)), THIN_MM, role="leader"))
 
 
 def _along(points_mm: Sequence[Point], text: str, role: str) -> list[PlacedText]:
