@@ -22,8 +22,10 @@ from typer.testing import CliRunner
 from loopdocs.cli import app
 from loopdocs.draw import symbols as lib
 from loopdocs.draw.layout import SERVICE_WRAP_MM, TEXT_MM, LoopLayout, layout_loop, loop_text
+from loopdocs.draw.range_chart import chart_layout, split_groups_to_chart
 from loopdocs.draw.svg import svg_document
 from loopdocs.draw.text import WIDTHS_BOLD, WIDTHS_BOOK, text_width_mm, wrap_text
+from loopdocs.model.groups import build_groups
 from loopdocs.model.tagname import TagKind
 from loopdocs.names import MAX_NAME_CHARS, safe_filename, unique_filenames
 from loopdocs.pipeline import load_project
@@ -32,6 +34,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 from drawing_helpers import (  # noqa: E402
     PEN_WIDTHS,
     SVG_NS,
+    chart_overlap_problems,
     check_svg11,
     crossing_problems,
     overlap_problems,
@@ -206,17 +209,22 @@ def test_valves_show_fail_position_air_action_and_wiring(example, layouts):
                 assert tag.io_address in strings
 
 
-def test_positioners_on_one_output_join_before_the_shared_terminal(layouts):
+def test_positioners_on_one_output_are_drawn_in_series(layouts):
     # T-5310: both positioners land on cabinet terminals X3:51-52 and one AO (a
-    # positioner split shares one output, DESIGN §3.2): one cabinet terminal, one I/O
-    # block, a connector with a junction dot, and the note that they are in series.
+    # positioner split shares one output, DESIGN §3.2). ISA-5.4 loop diagram, common
+    # practice: the loop current flows through each positioner in turn, so the drawing
+    # shows output + to TV-5310A, a link from TV-5310A's - terminal (JB 6) to
+    # TV-5310B's + terminal (JB 7), and TV-5310B back to output -; no tee, no junction dot.
     layout = layouts["T-5310"]
     cabinet_cells = [s for s in layout.symbols if s.symbol.name == "terminal-cabinet"]
     assert len(cabinet_cells) == 2  # TT-5310's and the shared one
     assert sum(1 for f in layout.frames if f.role == "io") == 2
-    assert any(line.role == "connector" for line in layout.lines)
-    assert layout.dots
-    assert "2 positioners in series" in {t.text for t in layout.texts}
+    assert not any(line.role == "connector" for line in layout.lines)
+    assert not layout.dots  # a junction dot would mean the positioners are in parallel
+    roles = [line.role for line in layout.lines]
+    assert roles.count("series-plus") == 1 and roles.count("series-link") == 1 and roles.count("series-return") == 1
+    texts = {t.text for t in layout.texts}
+    assert {"link 6-7", "+", "\u2212", "2 positioners in series"} <= texts
 
 
 def test_valves_on_one_ip_hang_on_a_pneumatic_header(layouts):
@@ -349,6 +357,10 @@ def test_random_loops_have_no_overlaps_or_crossings(tmp_path_factory, rows):
         for name in project.loops[loop_id].tags:
             assert any(s.name == f"bubble:{name}" for s in layout.symbols), name
         check_svg11(svg_document(layout))
+    # the range chart of each split in these loops: no text overlaps a text, leaves the
+    # canvas or crosses a dark line (the same legibility rule as the diagrams)
+    for group in split_groups_to_chart(build_groups(project)):
+        assert chart_overlap_problems(chart_layout(group)) == [], rows
 
 
 # --- text measuring ---------------------------------------------------------------------------
@@ -404,8 +416,6 @@ def test_safe_filename_keeps_good_names_and_separates_others():
 # --- the command ----------------------------------------------------------------------------------
 
 def test_draw_command_writes_every_loop_and_chart(tmp_path, example):
-    from loopdocs.model.groups import build_groups
-
     runner = CliRunner()
     out = tmp_path / "out"
     result = runner.invoke(app, ["draw", str(EXAMPLE), "--out", str(out)])

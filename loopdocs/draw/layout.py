@@ -10,8 +10,10 @@ so lines are orthogonal and never cross:
 - a primary element (TE, FE) sits left of the transmitter it feeds, in the same row;
 - the controller (or indicator) sits in the row of its first output (or last input);
   input rows join it from above through its top, further outputs from below;
-- outputs that share a terminal or an I/O channel (positioners in series on one
-  output) join the row above with a vertical connector just before the shared item;
+- outputs that share a terminal or an I/O channel join the row above with a vertical
+  connector just before the shared item; positioners in series on one output (a
+  positioner split) are drawn as wired instead: output +, each positioner + and - in
+  turn (a link between their terminals), back to output - (:func:`_series_wires`);
 - valves moved by one I/P converter hang on a pneumatic header left of the converter.
 
 Every text is placed from a measured box (``loopdocs.draw.text``) and the layout is
@@ -64,6 +66,8 @@ CONNECTOR_INSET_MM = 3.5
 """Distance of a merge connector or pneumatic header from the item it joins."""
 ENCLOSURE_PAD_MM = 2.0
 SERVICE_WRAP_MM = 36.0
+WIRE_OFFSET_MM = 1.2
+"""Half the distance between the + and - wires of a series loop (terminal units are 4 mm tall)."""
 AIR_GAP_MM = 3.0
 PIPE_STUB_MM = 5.0
 
@@ -510,6 +514,8 @@ class Segment:
     above: str | None = None
     below: str | None = None
     label_x: float | None = None
+    offset_mm: float = 0.0
+    """Drawn as two wires this far above and below the row line (a series loop): labels keep clear."""
 
 
 @dataclass
@@ -528,6 +534,12 @@ class Row:
     """(row index, column): this row ends at a connector into that row, before that column."""
     branch_of: int | None = None
     """For a valve on an I/P's header: the row of the I/P."""
+    driven_by: str | None = None
+    """Output rows: the tag of the loop function that drives them (Driven By)."""
+    series: tuple[int, ...] = ()
+    """On the first row of positioners in series on one output: the rows of the others, in order."""
+    series_of: int | None = None
+    """On the other rows of positioners in series: the first row."""
     tags: tuple[str, ...] = ()
     y: float = 0.0
     top_mm: float = 0.0
@@ -688,10 +700,18 @@ def _input_row(tag: Tag, parts: LoopParts, linked: bool) -> Row:
                tail_kind="data" if fn is not None and band_of(fn) == "control" else kind, tags=element_tags + (tag.tag,))
 
 
+def _driving_function(driver: Tag, parts: LoopParts) -> Tag | None:
+    """The loop's function (main or other, e.g. a hand controller) named in the driver's
+    Driven By, or None."""
+    name = (driver.driven_by or "").upper()
+    functions = ([parts.function] if parts.function is not None else []) + parts.other_functions
+    return next((f for f in functions if name and f.tag.upper() == name), None)
+
+
 def _output_row(valve: Tag, relay: Tag | None, parts: LoopParts) -> Row:
-    fn = parts.function
     driver = relay or valve
-    linked = fn is not None and (driver.driven_by or "").upper() == fn.tag
+    fn = _driving_function(driver, parts)
+    linked = fn is not None
     stations = [Station("F0", ("valve", valve), key=("valve", valve.tag))]
     segments: list[Segment] = []
     if relay is not None:
@@ -717,7 +737,8 @@ def _output_row(valve: Tag, relay: Tag | None, parts: LoopParts) -> Row:
     fn_in_control = fn is not None and band_of(fn) == "control"
     tail = "data" if fn_in_control and io is not None else kind
     tags = (valve.tag,) + ((relay.tag,) if relay is not None else ())
-    return Row(stations, segments, "output", linked=linked, tail_kind=tail, tags=tags)
+    return Row(stations, segments, "output", linked=linked and fn is parts.function, tail_kind=tail, tags=tags,
+               driven_by=fn.tag if fn is not None else None)
 
 
 def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, int | None]:
@@ -727,6 +748,10 @@ def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, in
 
     def linked_input(tag: Tag) -> bool:
         if fn is None or band_of(tag) == "control":
+            return False
+        # a switch (discrete signal) is wired to an input of its own, never into the
+        # controller's analogue input link (ISA-5.4: each device its own circuit, common practice)
+        if tag.kind is TagKind.SWITCH or tag.signal is Signal.DISCRETE:
             return False
         return tag.platform in (None, Platform.DEVICE) or tag.platform is fn.platform
 
@@ -772,13 +797,33 @@ def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, in
         host.stations.append(station)
         host.tags = host.tags + (fn.tag,)
     for extra in parts.other_functions:
-        unlinked.append(Row([Station(_column_of_device(extra), ("function", extra), key=("function", extra.tag))],
-                            [], "other", tags=(extra.tag,)))
+        station = Station(_column_of_device(extra), ("function", extra), key=("function", extra.tag))
+        if _attach_to_driven_row(rows, output_start, extra, station):
+            continue
+        unlinked.append(Row([station], [], "other", tags=(extra.tag,)))
     for element in parts.loose_elements:
         unlinked.append(Row([Station("F0", ("element", element), key=("element", element.tag))], [], "other",
                             tags=(element.tag,)))
     rows += unlinked
     return rows, parts, fn_row
+
+
+def _attach_to_driven_row(rows: list[Row], start: int, function: Tag, station: Station) -> bool:
+    """Put a further function of the loop (a hand controller beside the controller) at the
+    end of the first output row it drives, so its bubble is joined to its valve; False
+    when no such row can take it."""
+    for row in rows[start:]:
+        if row.role != "output" or row.driven_by != function.tag or row.merge is not None:
+            continue
+        if row.stations and COLUMNS.index(row.stations[-1].column) >= COLUMNS.index(station.column):
+            continue
+        has_io = any(s.column == "S0" for s in row.stations)
+        kind = "data" if has_io and band_of(function) == "control" else row.tail_kind
+        row.segments.append(Segment(kind))
+        row.stations.append(station)
+        row.tags = row.tags + (function.tag,)
+        return True
+    return False
 
 
 def _merge_outputs(rows: list[Row], start: int) -> None:
@@ -792,6 +837,13 @@ def _merge_outputs(rows: list[Row], start: int) -> None:
         keys = {s.column: s.key for s in row.stations if s.column in MERGE_COLUMNS}
         prev_keys = {s.column: s.key for s in prev.stations if s.column in MERGE_COLUMNS}
         prev_end = prev.merge[1] if prev.merge else None
+        if prev_end is not None:
+            # the row above joined its own row above before prev_end: it shares that row's
+            # items from there on (a third positioner on the same output)
+            root = rows[_merge_root(rows, i - 1)]
+            start_at = MERGE_COLUMNS.index(prev_end)
+            prev_keys.update({s.column: s.key for s in root.stations
+                              if s.column in MERGE_COLUMNS[start_at:]})
         for column in MERGE_COLUMNS:
             if keys.get(column) is None:
                 continue
@@ -811,6 +863,35 @@ def _merge_root(rows: list[Row], index: int) -> int:
     while rows[index].merge is not None:
         index = rows[index].merge[0]  # type: ignore[index]
     return index
+
+
+def _series_groups(rows: list[Row], tags: dict[str, Tag]) -> None:
+    """Mark positioners in series on one output: a positioner split (DESIGN §3.2, one
+    analog output for the group) whose rows all join the first row before the same
+    shared item. Their rows get ``series``/``series_of`` and are drawn as wired."""
+    for r, row in enumerate(rows):
+        if row.merge is not None or row.role != "output":
+            continue
+        members: list[int] = []
+        k = r + 1
+        while k < len(rows) and rows[k].merge is not None and rows[k].merge[0] == k - 1:
+            members.append(k)
+            k += 1
+        if not members or len({rows[m].merge[1] for m in members}) != 1:  # type: ignore[index]
+            continue
+        column = rows[members[0]].merge[1]  # type: ignore[index]
+        if not any(s.column == column for s in row.stations):
+            continue
+        valves = [rows[i].tags[0] for i in [r] + members]
+        if {tags[v].split_method for v in valves if v in tags} != {SplitMethod.POSITIONER} or len(valves) != len(
+                [v for v in valves if v in tags]):
+            continue
+        row.series = tuple(members)
+        m = next(i for i, s in enumerate(row.stations) if s.column == column)
+        row.segments[m - 1].offset_mm = WIRE_OFFSET_MM
+        for i in members:
+            rows[i].series_of = r
+            rows[i].segments[-1].offset_mm = WIRE_OFFSET_MM
 
 
 def _series_notes(rows: list[Row], tags: dict[str, Tag]) -> None:
@@ -949,6 +1030,8 @@ def _tail_end(index: int, rows: list[Row], cols: _Columns, fn_row: int | None) -
     """x where a row's line ends beyond its last station: a connector, the function's
     bus, or None when the row ends at its last station."""
     row = rows[index]
+    if row.series_of is not None:
+        return min(_series_xs(rows, row.series_of, cols)[0])
     connector = _connector_x(row, rows, cols)
     if connector is not None:
         return connector
@@ -958,7 +1041,12 @@ def _tail_end(index: int, rows: list[Row], cols: _Columns, fn_row: int | None) -
 
 
 def _cuts_on_row(index: int, rows: list[Row], cols: _Columns) -> list[float]:
-    """x of the vertical connector that joins this row's line from the row below."""
+    """x of the vertical connector that joins this row's line from the row below (for
+    positioners in series: of the links and the return wire)."""
+    root = index if rows[index].series else rows[index].series_of
+    if root is not None:
+        links, ret = _series_xs(rows, root, cols)
+        return links + [ret]
     if index + 1 < len(rows) and rows[index + 1].ends_at_connector():
         x = _connector_x(rows[index + 1], rows, cols)
         return [x] if x is not None else []
@@ -1011,7 +1099,9 @@ def _place_labels(rows: list[Row], cols: _Columns, fn_row: int | None) -> dict[s
                 xb = end
                 column = row.merge[1] if row.merge else cols.used[-1]
             need = max(text_width_mm(seg.above or "", TEXT_MM), text_width_mm(seg.below or "", TEXT_MM))
-            spans = _free_intervals(xa, xb, [c for c in cuts + bounds if xa < c < xb], LABEL_MARGIN_MM)
+            # keep clear of a connector of this row's kind too (a pneumatic line is 3.2 mm wide)
+            margin = max(LABEL_MARGIN_MM, LINE_HALF_WIDTH_MM.get(seg.kind, 0.4) + 0.5)
+            spans = _free_intervals(xa, xb, [c for c in cuts + bounds if xa < c < xb], margin)
             best = max((s[1] - s[0] for s in spans), default=0.0)
             if best + 1e-6 < need:
                 widen[column] = max(widen.get(column, 0.0), 2 * (need - best) + 1.0)
@@ -1031,6 +1121,7 @@ def layout_loop(project: Project, loop_id: str) -> LoopLayout:
         raise KeyError(f"no loop {loop_id!r} in the project")
     rows, parts, fn_row = build_rows(project, loop_id)
     _series_notes(rows, project.tags)
+    _series_groups(rows, project.tags)
     _build_clusters(rows, parts)
 
     used = [c for c in COLUMNS if any(s.column == c for r in rows for s in r.stations)]
@@ -1047,9 +1138,9 @@ def layout_loop(project: Project, loop_id: str) -> LoopLayout:
         top = max([-b.y for b in row_boxes] + [3.0])
         bottom = max([b.bottom for b in row_boxes] + [3.0])
         if any(s.above for s in row.segments):
-            top = max(top, half + 0.4 + label_h)
+            top = max(top, max(half + 0.4 + label_h + s.offset_mm for s in row.segments if s.above))
         if any(s.below for s in row.segments):
-            bottom = max(bottom, half + 0.4 + label_h)
+            bottom = max(bottom, max(half + 0.4 + label_h + s.offset_mm for s in row.segments if s.below))
         row.top_mm, row.bottom_mm = top, bottom
         row.y = y + top
         y = row.y + bottom + ROW_GAP_MM
@@ -1063,6 +1154,8 @@ def layout_loop(project: Project, loop_id: str) -> LoopLayout:
             c = row.merge[1]
             k = used.index(c)
             if k and BAND_OF_COLUMN[used[k - 1]] != BAND_OF_COLUMN[c]:
+                gaps[c] = max(gaps[c], 2 * (CONNECTOR_INSET_MM + 4.0))
+            if row.series_of is not None:
                 gaps[c] = max(gaps[c], 2 * (CONNECTOR_INSET_MM + 4.0))
     cols = _place_columns(used, left_ext, right_ext, gaps)
     for _attempt in range(16):
@@ -1102,13 +1195,18 @@ def _assemble(layout: LoopLayout, rows: list[Row], cols: _Columns, fn_row: int |
                 seg = row.segments[k]
                 b = row.stations[k + 1]
                 bx, by = b.cluster.attach_in  # type: ignore[union-attr, misc]
-                layout.lines.append(SignalLine(seg.kind, tuple(start + [(cols.ref[b.column] + bx, y + by)]), "signal"))
+                if not (row.series and seg.offset_mm):  # the series wires are drawn by _series_wires
+                    layout.lines.append(SignalLine(seg.kind, tuple(start + [(cols.ref[b.column] + bx, y + by)]),
+                                                   "signal"))
                 _labels(layout, seg, y)
                 continue
             end = _tail_end(index, rows, cols, fn_row)
             if end is None:
                 continue
             seg = row.segments[k] if k < len(row.segments) else Segment(row.tail_kind)
+            if row.series_of is not None:
+                _labels(layout, seg, y)
+                continue
             if row.ends_at_connector():
                 target = rows[index - 1]
                 layout.lines.append(SignalLine(seg.kind, tuple(start + [(end, y), (end, target.y)]), "connector"))
@@ -1119,16 +1217,108 @@ def _assemble(layout: LoopLayout, rows: list[Row], cols: _Columns, fn_row: int |
     _impulse_lines(layout, rows, cols)
     _function_buses(layout, rows, cols, fn_row)
     _enclosures(layout, rows, cols)
+    for index, row in enumerate(rows):
+        if row.series:
+            _series_wires(layout, rows, index, cols)
 
 
 def _labels(layout: LoopLayout, seg: Segment, y: float) -> None:
     if seg.label_x is None:
         return
-    half = LINE_HALF_WIDTH_MM.get(seg.kind, 0.4)
+    half = LINE_HALF_WIDTH_MM.get(seg.kind, 0.4) + seg.offset_mm
     if seg.above:
         layout.texts.append(_text(seg.above, seg.label_x, y - half - 0.4 - DESCENT_EM * TEXT_MM, "middle", "cable"))
     if seg.below:
         layout.texts.append(_text(seg.below, seg.label_x, y + half + 0.4 + ASCENT_EM * TEXT_MM, "middle", "signal"))
+
+
+def _series_ends(rows: list[Row], root: int, cols: _Columns) -> tuple[list[tuple[float, Station]], float, int]:
+    """For positioners in series: (x where each row's own wiring ends and its last own
+    station, first row first), x of the shared item's input, its index in the first row."""
+    head = rows[root]
+    column = rows[head.series[0]].merge[1]  # type: ignore[index]
+    m = next(i for i, s in enumerate(head.stations) if s.column == column)
+    ends = []
+    for r, last in [(root, head.stations[m - 1])] + [(i, rows[i].stations[-1]) for i in head.series]:
+        ends.append((cols.ref[last.column] + last.cluster.attach_out[0], last))  # type: ignore[union-attr, index]
+    shared = head.stations[m]
+    x_in = cols.ref[shared.column] + shared.cluster.attach_in[0]  # type: ignore[union-attr, index]
+    return ends, x_in, m
+
+
+def _series_xs(rows: list[Row], root: int, cols: _Columns) -> tuple[list[float], float]:
+    """x of the link between each pair of neighbouring positioners (inside the junction
+    box or cabinet whose terminals they land on) and of the return wire to output -."""
+    head = rows[root]
+    column = rows[head.series[0]].merge[1]  # type: ignore[index]
+    ret = cols.left[column] - CONNECTOR_INSET_MM
+    m = next(i for i, s in enumerate(head.stations) if s.column == column)
+    lasts = [head.stations[m - 1]] + [rows[i].stations[-1] for i in head.series]
+    if all(s.meta[0] == "terminal" and s.enclosure for s in lasts):
+        # the link is made in the box the terminals are in: just right of the terminals
+        base = max(cols.ref[s.column] + s.cluster.attach_out[0] for s in lasts) + 0.9  # type: ignore[union-attr, index]
+    else:
+        base = ret - 3.0
+    return [base + (k % 2) * 1.5 for k in range(len(head.series))], ret
+
+
+def _terminal_pair(station: Station) -> tuple[str, str] | None:
+    """The two terminal numbers of a terminal station (``X3:51-52`` -> ``('51', '52')``)."""
+    what, payload = station.meta
+    if what != "terminal" or not isinstance(payload, str):
+        return None
+    numbers = payload.rsplit(":", 1)[-1]
+    parts = [p.strip() for p in numbers.split("-")]
+    return (parts[0], parts[1]) if len(parts) == 2 and all(parts) else None
+
+
+def _series_wires(layout: LoopLayout, rows: list[Row], root: int, cols: _Columns) -> None:
+    """Positioners in series on one output, as wired (ISA-5.4 loop diagram; current
+    flows through each positioner in turn, common practice): output + to the first
+    positioner's + terminal, each positioner's - terminal linked to the next one's +,
+    the last one's - back to output -. The + wire runs above the row line, the links
+    and the return below; no junction dot, nothing is connected in parallel."""
+    ends, x_in, m = _series_ends(rows, root, cols)
+    links, ret = _series_xs(rows, root, cols)
+    d = WIRE_OFFSET_MM
+    ys = [rows[root].y] + [rows[i].y for i in rows[root].series]
+    kind = rows[root].segments[m - 1].kind
+    # output + to the first positioner
+    layout.lines.append(SignalLine(kind, ((x_in, ys[0] - d), (ends[0][0], ys[0] - d)), "series-plus"))
+    for k in range(len(ys) - 1):
+        (xa, sta), (xb, stb) = ends[k], ends[k + 1]
+        x = links[k]
+        # a wire link between two terminals of one box: thin solid, unlike the cable cores
+        layout.lines.append(SignalLine("connection", ((xa, ys[k] + d), (x, ys[k] + d), (x, ys[k + 1] - d),
+                                                      (xb, ys[k + 1] - d)), "series-link"))
+        pa, pb = _terminal_pair(sta), _terminal_pair(stb)
+        text = f"link {pa[1]}-{pb[0]}" if pa and pb else "link"
+        _free_text(layout, text, x - 0.8, ys[k] + d, ys[k + 1] - d, "end", [bx for _, bx in cols.boundaries])
+    # the last positioner back to output -
+    layout.lines.append(SignalLine(kind, ((ends[-1][0], ys[-1] + d), (ret, ys[-1] + d), (ret, ys[0] + d),
+                                          (x_in, ys[0] + d)), "series-return"))
+    # polarity of the output, between the return wire and the shared item's enclosure
+    half = LINE_HALF_WIDTH_MM.get(kind, 0.4)
+    column = rows[rows[root].series[0]].merge[1]  # type: ignore[index]
+    x = (ret + cols.left[column]) / 2
+    layout.texts.append(_text("+", x, ys[0] - d - half - 0.3 - DESCENT_EM * TEXT_MM, "middle", "polarity"))
+    layout.texts.append(_text("\u2212", x, ys[0] + d + half + 0.3 + ASCENT_EM * TEXT_MM, "middle", "polarity"))
+
+
+def _free_text(layout: LoopLayout, text: str, x: float, y0: float, y1: float, anchor: str,
+               band_edges: list[float]) -> None:
+    """Put ``text`` at ``x`` between heights ``y0`` and ``y1``, middle first, where it
+    overlaps no text, symbol or line placed so far nor a band boundary at ``band_edges``;
+    left out when nowhere is free."""
+    height = _label_height()
+    boxes = [t.box for t in layout.texts] + [b for _, b in layout.solid_boxes()] + layout.line_boxes()
+    boxes += [Rect(e - THIN_MM / 2, y0, THIN_MM, y1 - y0) for e in band_edges]
+    for f in (0.5, 0.35, 0.65, 0.2, 0.8):
+        top = y0 + f * (y1 - y0) - height / 2
+        placed = _text(text, x, top + ASCENT_EM * TEXT_MM, anchor, "series-link")
+        if top > y0 + 0.5 and top + height < y1 - 0.5 and not any(placed.box.overlaps(b) for b in boxes):
+            layout.texts.append(placed)
+            return
 
 
 def _impulse_lines(layout: LoopLayout, rows: list[Row], cols: _Columns) -> None:
