@@ -80,9 +80,7 @@ def print_calibration(cset: CalibrationSet) -> None:
             caption.append(ne43_note(t.ne43))
         if t.dcs_scaling and t.kind == "final element":
             sc = t.dcs_scaling
-            caption.append(f"control system: output signal 0 % at controller output {sc.co_at_0_pct:g} %, "
-                           f"100 % at controller output {sc.co_at_100_pct:g} %"
-                           + (" (reversed: the output signal falls as the controller output rises)" if sc.reversed else ""))
+            caption.append(f"control system: {sc.text()}")
         caption += list(t.notes)
         if caption:
             table.caption = "\n".join(caption)

@@ -238,12 +238,7 @@ def _note_lines(table: CalibrationTable) -> list[str]:
         lines.append(ne43_note(table.ne43))
     if table.dcs_scaling is not None and table.kind == "final element":
         sc = table.dcs_scaling
-        lines.append(
-            f"ENTER IN THE CONTROL SYSTEM for {table.tag}: output signal 0 % (4 mA) at controller output "
-            f"{sc.co_at_0_pct:g} %, output signal 100 % (20 mA) at controller output {sc.co_at_100_pct:g} %"
-            + (" (reversed: the output signal falls as the controller output rises)" if sc.reversed else "")
-            + "; positioner set to the full 4-20 mA"
-        )
+        lines.append(f"ENTER IN THE CONTROL SYSTEM for {table.tag}: {sc.text()}; positioner set to the full 4-20 mA")
     return lines
 
 

@@ -90,8 +90,7 @@ def _settings_cells(e: Any) -> tuple[str, str]:
         needed = f"positioner {needed}"
         scaling = e.required_dcs_scaling
         if scaling is not None:
-            needed += (f"; output 0 % at CO {fmt_pct(scaling.co_at_0_pct)} %, 100 % at CO "
-                       f"{fmt_pct(scaling.co_at_100_pct)} %" + (" (reversed)" if scaling.reversed else ""))
+            needed += f"; {scaling.text()}"
     return now, needed
 
 

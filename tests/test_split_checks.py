@@ -303,7 +303,7 @@ def test_dcs_split_with_a_split_positioner(index_files):
     f = only(index_files.check(rows), "split.double-split")
     assert (f.severity.value, f.tags, index_files.where(f)) == ("error", ("LV-201B",), index_files.cell("input_low", 2))
     assert "set 9.00 to 20.00 mA instead of the full 4.00 to 20.00 mA" in f.message
-    assert "output 0 % at CO 25 %, 100 % at CO 100 %" in f.message
+    assert "output signal 0 % at controller output 25 %, 100 % at controller output 100 %" in f.message
 
 
 def test_dcs_split_on_full_span_positioners_is_clean(index_files):

@@ -148,6 +148,18 @@ class DcsScaling:
         """Output, %, at a CO, %: ``100 * clamp01((CO - c0) / (c100 - c0))``."""
         return 100.0 * clamp01((co_pct - self.co_at_0_pct) / (self.co_at_100_pct - self.co_at_0_pct))
 
+    def text(self) -> str:
+        """The scaling in words, the same on every output.
+
+        >>> DcsScaling(50, 100).text()
+        'output signal 0 % at controller output 50 %, 100 % at controller output 100 %'
+        >>> DcsScaling(50, 0).text()
+        'output signal 0 % at controller output 50 %, 100 % at controller output 0 % (reversed: the output signal falls as the controller output rises)'
+        """
+        words = (f"output signal 0 % at controller output {self.co_at_0_pct:.6g} %, 100 % at controller output "
+                 f"{self.co_at_100_pct:.6g} %")
+        return words + (" (reversed: the output signal falls as the controller output rises)" if self.reversed else "")
+
 
 #: Unscaled output (output = CO), used when a ``dcs`` element has no scaling given.
 DCS_UNSCALED = DcsScaling(0.0, 100.0)

@@ -318,8 +318,7 @@ def double_split(ctx: Context) -> Iterator[Finding | Unverified]:
         full = e.required_input_range or (span.low, span.high)
         units = e.input_units if e.required_input_range else span.unit
         scaling = e.required_dcs_scaling
-        scaled = (f"output 0 % at CO {fmt_pct(scaling.co_at_0_pct)} %, 100 % at CO {fmt_pct(scaling.co_at_100_pct)} %"
-                  if scaling else "its segment")
+        scaled = scaling.text() if scaling else "its segment"
         message = (f"{e.tag} is split in the control system ({segment_text(e)}, {travel_text(e)}), but its positioner is set "
                    f"{fmt_range(*e.input_range, e.input_units)} instead of the full {fmt_range(*full, units)}: the split "
                    f"is made twice (with the scaling {scaled}, travel is off by {error_pct:.1f} % at CO {fmt_pct(at_co)} %)")

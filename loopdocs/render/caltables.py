@@ -152,8 +152,7 @@ def _extra_notes(table: CalibrationTable) -> list[str]:
         notes.append(ne43_note(table.ne43))
     if table.dcs_scaling is not None and table.kind == "final element":
         sc = table.dcs_scaling
-        notes.append(f"control system: output 0 % at CO {fmt_number(sc.co_at_0_pct)} %, 100 % at CO "
-                     f"{fmt_number(sc.co_at_100_pct)} %" + (" (reversed)" if sc.reversed else ""))
+        notes.append(f"control system: {sc.text()}")
     return notes
 
 
