@@ -226,17 +226,19 @@ def sensor_for(tag: Tag) -> CalibrationTable | Skipped:
 
 
 def converter_for(tag: Tag) -> CalibrationTable | Skipped:
-    """The table of a signal converter (I/P): input range in mA, pneumatic output."""
-    span, reason = output_span(tag.signal)
-    if reason or span is None:
-        return Skipped(tag.tag, reason or "relay with a digital output: nothing to calibrate", tag.loop)
-    notes: list[str] = []
+    """The table of a signal converter (I/P): 4-20 mA in, pneumatic out.
+
+    The Range is read as written: in mA it is the input range (the output then follows
+    the Signal); in pressure units it is the output range, with 4-20 mA in (an engineer
+    often writes an I/P row with its input Signal and its output range). A reversed
+    range is refused rather than turned round.
+    """
     units = (tag.units or "").strip()
-    if tag.has_range and span.unit != "mA" and units.lower() != "ma":
+    span, reason = output_span(tag.signal)
+    if tag.has_range and units.lower() != "ma":
         from loopdocs.calc.units import is_pressure
 
-        if is_pressure(units):
-            # an I/P row ranged in its output: input 4-20 mA, output the range as written
+        if is_pressure(units) and tag.signal is not None and (tag.signal.is_analog_ma or tag.signal.is_pneumatic):
             if tag.range_low >= tag.range_high:
                 return Skipped(tag.tag, f"converter output range {tag.range_low:g} to {tag.range_high:g} {units}: "
                                         "a reverse-acting converter is not tabulated", tag.loop)
@@ -244,8 +246,13 @@ def converter_for(tag: Tag) -> CalibrationTable | Skipped:
                 table = _converter_with_tolerance(tag, MA_4_20, SignalSpan(tag.range_low, tag.range_high, units))
             except ValueError as exc:
                 return Skipped(tag.tag, str(exc), tag.loop)
-            notes = [f"Range {tag.range_low:g} to {tag.range_high:g} {units} read as the output range; input 4-20 mA taken"]
+            notes = [f"Range {tag.range_low:g} to {tag.range_high:g} {units} read as the output range; input 4-20 mA"]
             return table.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
+    if reason or span is None:
+        return Skipped(tag.tag, reason or "relay with a digital output: nothing to calibrate", tag.loop)
+    if span.unit == "mA":
+        return Skipped(tag.tag, "converter with a 4-20 mA Signal and no output range in pressure units "
+                                f"(Range Low/High, Units; Units is {units or 'blank'})", tag.loop)
     if not tag.has_range or units.lower() != "ma":
         return Skipped(tag.tag, "relay/converter without an input range in mA or an output range in pressure "
                                 f"units (Range Low/High, Units; Units is {units or 'blank'})", tag.loop)
@@ -256,7 +263,7 @@ def converter_for(tag: Tag) -> CalibrationTable | Skipped:
         table = _converter_with_tolerance(tag, SignalSpan(tag.range_low, tag.range_high, "mA"), span)
     except ValueError as exc:
         return Skipped(tag.tag, str(exc), tag.loop)
-    return table.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
+    return table.with_context(loop=tag.loop, service=tag.service or "")
 
 
 #: Tolerance of an I/P converter whose Accuracy % is blank, % of output span. From memory:

@@ -15,6 +15,8 @@ ROWS = [
     {"tag": "TY-132", "signal": "3-15 psig", "range_low": 4, "range_high": 20, "units": "mA"},
     {"tag": "TY-133", "signal": "3-15 psig", "range_low": 20, "range_high": 4, "units": "mA"},
     {"tag": "TY-134", "signal": "3-15 psig", "range_low": 0, "range_high": 100, "units": "%"},
+    # the input Signal written with the output range
+    {"tag": "TY-135", "signal": "4-20 mA", "range_low": 3, "range_high": 15, "units": "psig"},
 ]
 
 
@@ -32,7 +34,7 @@ def test_converter_rows(index_files):
     assert any("read as the output range" in n for n in tables["TY-130"].notes)
     # 0.2-1.0 bar output (IEC 60382): 12 mA -> 0.6 bar
     assert [round(o, 9) for _, o in pairs("TY-131")] == [0.2, 0.4, 0.6, 0.8, 1.0]
-    assert pairs("TY-132") == pairs("TY-130")
+    assert pairs("TY-132") == pairs("TY-130") == pairs("TY-135")
     # a reversed input range is not silently turned round
     assert "reverse-acting" in skipped["TY-133"]
     assert "Units is %" in skipped["TY-134"]
