@@ -43,7 +43,7 @@ CHILD = """
 import json, resource, sys, time
 from pathlib import Path
 started = time.perf_counter()
-from loopdocs.render.build import build
+from loopdocs.render.builder import build
 index, out, workers = Path(sys.argv[1]), Path(sys.argv[2]), int(sys.argv[3])
 result = build(index, out, workers=workers)
 wall = time.perf_counter() - started

@@ -29,7 +29,7 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 
-from loopdocs.starter import write_index_workbook  # noqa: E402
+from loopdocs.sheets.index_template import write_index_workbook  # noqa: E402
 
 # Shorthands for the columns every field device shares.
 FIELD = {"location": "field", "platform": "device"}

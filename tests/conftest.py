@@ -1,9 +1,9 @@
 """Shared test helpers: write a real index workbook from rows and check it.
 
 ``index_files`` (session fixture) writes rows (dicts by column key, as in
-``loopdocs.read.columns``) with ``loopdocs.starter.write_index_workbook`` into a fresh
+``loopdocs.read.columns``) with ``loopdocs.sheets.index_template.write_index_workbook`` into a fresh
 ``.xlsx`` and returns its path (``write``) or the checked result of
-``loopdocs.pipeline.check_project`` (``check``). Data rows start at spreadsheet row 2
+``loopdocs.checks.check_project`` (``check``). Data rows start at spreadsheet row 2
 (the header is row 1): the i-th row given (from 0) is on row ``i + 2``.
 ``IndexFiles.cell(key, i)`` is the ``(sheet, row, column letter)`` of column ``key`` on
 the i-th row given, ``IndexFiles.where(finding)`` the same triple for a finding.
@@ -28,7 +28,7 @@ class IndexFiles:
         self._numbers = itertools.count(1)
 
     def write(self, rows: Iterable[Mapping[str, Any]], name: str | None = None) -> Path:
-        from loopdocs.starter import write_index_workbook
+        from loopdocs.sheets.index_template import write_index_workbook
 
         path = self.folder / (name or f"index_{next(self._numbers)}.xlsx")
         write_index_workbook(path, list(rows), spare_rows=0)
@@ -36,7 +36,7 @@ class IndexFiles:
 
     def check(self, rows: Iterable[Mapping[str, Any]]):
         """``check_project`` of a new workbook holding ``rows``."""
-        from loopdocs.pipeline import check_project
+        from loopdocs.checks import check_project
 
         return check_project(self.write(rows))
 

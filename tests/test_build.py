@@ -18,11 +18,11 @@ from pypdf import PdfReader
 from typer.testing import CliRunner
 
 from loopdocs.cli import app
+from loopdocs.core.names import safe_filename
 from loopdocs.model.tagname import parse_tag
-from loopdocs.names import safe_filename
-from loopdocs.render.build import CRASH_ENV, LOOPS_DIR, PACKAGE_NAME, BuildError, build
+from loopdocs.render.builder import CRASH_ENV, LOOPS_DIR, PACKAGE_NAME, BuildError, build
 from loopdocs.render.cache import CACHE_DIR_NAME, MANIFEST_NAME
-from loopdocs.starter import write_index_workbook
+from loopdocs.sheets.index_template import write_index_workbook
 
 REPO = Path(__file__).resolve().parents[1]
 EXAMPLE = REPO / "project_example"
@@ -67,7 +67,7 @@ def example_build(tmp_path_factory):
 
 def test_example_package_has_every_loop_in_order_with_bookmarks(example_build):
     result = example_build
-    from loopdocs.pipeline import check_project
+    from loopdocs.checks import check_project
 
     loops = list(check_project(EXAMPLE).project.loops)
     assert result.rendered and sorted(result.rendered) == sorted(loops) and result.reused == []
@@ -250,7 +250,7 @@ def test_build_command_exits_1_and_marks_sheets_when_errors_remain(tmp_path):
 
     project = small_project(tmp_path / "p", ("F-1201",), edit=break_fail_position)
     result = runner.invoke(app, ["build", str(project), "--out", str(tmp_path / "o"), "--workers", "1"])
-    from loopdocs.pipeline import check_project
+    from loopdocs.checks import check_project
 
     if not any(f.counts_as_error for f in check_project(project).findings):
         pytest.skip("the valve checks are not in this tree yet")

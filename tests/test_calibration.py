@@ -1,4 +1,4 @@
-"""Calibration tables (loopdocs.calc.calibration, loopdocs.calc.units, loopdocs.calibration)
+"""Calibration tables (loopdocs.calc.tables, loopdocs.calc.units, loopdocs.calibration.project_tables)
 and the ``calibrate`` command, checked against published values.
 
 Published values marked "from memory" were recalled from the tables named beside them
@@ -16,7 +16,7 @@ import pint
 import pytest
 from typer.testing import CliRunner
 
-from loopdocs.calc.calibration import (
+from loopdocs.calc.tables import (
     CO_UNIT,
     TRAVEL_UNIT,
     converter_table,
@@ -31,7 +31,7 @@ from loopdocs.calc.calibration import (
     zero_note,
 )
 from loopdocs.calc.signals import KPA_20_100, MA_4_20, PSIG_3_15
-from loopdocs.calc.split import DcsScaling, Intent, Settings
+from loopdocs.calc.travel import DcsScaling, Intent, Settings
 from loopdocs.calc.units import convert, convert_difference, is_pressure, parse_unit, registry, unit_expression
 from loopdocs.cli import app
 

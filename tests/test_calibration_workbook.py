@@ -1,4 +1,4 @@
-"""The technicians' workbook written by ``loopdocs calibrate --out`` (loopdocs.calibration_workbook)."""
+"""The technicians' workbook written by ``loopdocs calibrate --out`` (loopdocs.sheets.technicians_workbook)."""
 
 from __future__ import annotations
 
@@ -8,20 +8,20 @@ import openpyxl
 import pytest
 from typer.testing import CliRunner
 
-from loopdocs.calibration import calibration_set
-from loopdocs.calibration_workbook import (
+from loopdocs.calibration.project_tables import calibration_set
+from loopdocs.sheets.technicians_workbook import (
     CONTENTS_SHEET,
     HEADER_ROW,
     RECORD_SHEET,
     SIMULATE,
     read_workbook,
-    row_digest,
     write_workbook,
 )
+from loopdocs.calibration.workbook_record import row_digest
 from loopdocs.cli import app
-from loopdocs.pipeline import load_project
-from loopdocs.report import CAUTION
-from loopdocs.starter import write_index_workbook
+from loopdocs.core.wording import CAUTION
+from loopdocs.model.loading import load_project
+from loopdocs.sheets.index_template import write_index_workbook
 
 EXAMPLE = Path(__file__).resolve().parent.parent / "project_example"
 runner = CliRunner()

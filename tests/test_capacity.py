@@ -15,7 +15,7 @@ from loopdocs.calc.capacity import (
     normalise_characteristic,
     recommended_boundaries_pct,
 )
-from loopdocs.calc.split import Intent
+from loopdocs.calc.travel import Intent
 
 GRID = [k / 20 for k in range(21)]
 

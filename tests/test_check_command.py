@@ -14,10 +14,11 @@ import openpyxl
 import pytest
 from typer.testing import CliRunner
 
+from loopdocs.checks import check_project
 from loopdocs.cli import app
-from loopdocs.pipeline import check_project, load_project
+from loopdocs.model.loading import load_project
 from loopdocs.read.columns import COLUMNS
-from loopdocs.starter import write_index_workbook
+from loopdocs.sheets.index_template import write_index_workbook
 
 REPO = Path(__file__).resolve().parents[1]
 runner = CliRunner()

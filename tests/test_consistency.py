@@ -1,6 +1,6 @@
 """Cross-column rules of ``loopdocs.checks.consistency``: for each rule a workbook built
 here with a row that fires it and a clean neighbour row that does not, checked with
-``loopdocs.pipeline.check_project``; each finding's rule, severity, tag and cell are
+``loopdocs.checks.check_project``; each finding's rule, severity, tag and cell are
 asserted.
 
 Reference values, with their sources:
@@ -233,8 +233,8 @@ def test_4_20_ma_on_an_element_is_a_warning_and_on_a_well_an_error(index_files):
 
 
 def test_calibration_skip_reason_quotes_the_index_value_and_unit(index_files):
-    from loopdocs.calibration import calibration_set
-    from loopdocs.pipeline import load_project
+    from loopdocs.calibration.project_tables import calibration_set
+    from loopdocs.model.loading import load_project
 
     project, _ = load_project(index_files.write([
         tt("TT-101", range_high=2600, units="degF"),
@@ -251,7 +251,7 @@ def test_calibration_skip_reason_quotes_the_index_value_and_unit(index_files):
 
 
 def test_example_project_has_none_of_these_findings():
-    from loopdocs.pipeline import check_project
+    from loopdocs.checks import check_project
 
     example = Path(__file__).resolve().parents[1] / "project_example"
     assert _ours(check_project(example)) == []
@@ -262,7 +262,7 @@ def test_example_project_has_none_of_these_findings():
 
 def _project(rows):
     """A project from rows held in memory (the reader's output, without a file)."""
-    from loopdocs.model.build import build_project
+    from loopdocs.model.from_rows import build_project
     from loopdocs.read import IndexRow, IndexTable
     from loopdocs.read.columns import COLUMNS
 
@@ -345,7 +345,7 @@ def test_check_of_common_units_does_not_load_pint():
     import sys
 
     example = Path(__file__).resolve().parents[1] / "project_example"
-    code = ("import sys\nfrom loopdocs.pipeline import load_project\nfrom loopdocs.checks import consistency\n"
+    code = ("import sys\nfrom loopdocs.model.loading import load_project\nfrom loopdocs.checks import consistency\n"
             f"project, _ = load_project({str(example)!r})\nlist(consistency.checks(project))\n"
             "print('pint' in sys.modules)\n")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout.split()

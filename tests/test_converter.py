@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import pytest
 
-from loopdocs.calibration import calibration_set
-from loopdocs.pipeline import load_project
+from loopdocs.calibration.project_tables import calibration_set
+from loopdocs.model.loading import load_project
 
 ROWS = [
     {"tag": "TY-130", "signal": "3-15 psig", "range_low": 3, "range_high": 15, "units": "psig", "accuracy_pct": 0.5},

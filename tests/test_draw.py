@@ -20,15 +20,15 @@ from hypothesis import strategies as st
 from typer.testing import CliRunner
 
 from loopdocs.cli import app
+from loopdocs.core.names import MAX_NAME_CHARS, safe_filename, unique_filenames
 from loopdocs.draw import symbols as lib
 from loopdocs.draw.layout import SERVICE_WRAP_MM, TEXT_MM, LoopLayout, layout_loop, loop_text
 from loopdocs.draw.range_chart import chart_layout, split_groups_to_chart
 from loopdocs.draw.svg import svg_document
 from loopdocs.draw.text import WIDTHS_BOLD, WIDTHS_BOOK, text_width_mm, wrap_text
 from loopdocs.model.groups import build_groups
+from loopdocs.model.loading import load_project
 from loopdocs.model.tagname import TagKind
-from loopdocs.names import MAX_NAME_CHARS, safe_filename, unique_filenames
-from loopdocs.pipeline import load_project
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from drawing_helpers import (  # noqa: E402
@@ -256,7 +256,7 @@ def test_deterministic_bytes_also_across_processes(example, tmp_path):
     # a fresh interpreter with another hash seed (set and dict order must not leak in).
     first = svg_document(layout_loop(example, "T-3105"))
     assert svg_document(layout_loop(example, "T-3105")) == first
-    code = ("import sys; from pathlib import Path; from loopdocs.pipeline import load_project; "
+    code = ("import sys; from pathlib import Path; from loopdocs.model.loading import load_project; "
             "from loopdocs.draw.layout import layout_loop; from loopdocs.draw.svg import svg_document; "
             "p, _ = load_project(Path(sys.argv[1])); sys.stdout.write(svg_document(layout_loop(p, 'T-3105')))")
     env = dict(os.environ, PYTHONHASHSEED="12345")
@@ -435,7 +435,7 @@ def test_draw_command_writes_every_loop_and_chart(tmp_path, example):
 
 def test_check_does_not_import_drawing_libraries():
     code = ("import sys; from pathlib import Path; from loopdocs.cli import app; "
-            "from loopdocs.pipeline import check_project; check_project(Path(sys.argv[1])); "
+            "from loopdocs.checks import check_project; check_project(Path(sys.argv[1])); "
             "print(sorted(m for m in sys.modules if m.startswith(('svgwrite', 'cairosvg', 'loopdocs.draw'))))")
     out = subprocess.run([sys.executable, "-c", code, str(EXAMPLE)], capture_output=True, text=True, check=True,
                          cwd=REPO)

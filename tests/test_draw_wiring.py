@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from loopdocs.draw.layout import layout_loop
-from loopdocs.pipeline import load_project
+from loopdocs.model.loading import load_project
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from drawing_helpers import crossing_problems, overlap_problems, write_xlsx  # noqa: E402

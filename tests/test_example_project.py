@@ -2,8 +2,8 @@
 
 from pathlib import Path
 
+from loopdocs.checks import check_project
 from loopdocs.model.vocab import Sensor, Signal
-from loopdocs.pipeline import check_project
 
 REPO = Path(__file__).resolve().parents[1]
 
@@ -30,7 +30,7 @@ def test_example_index_matches_its_generator(tmp_path):
     spec = importlib.util.spec_from_file_location("make_example", REPO / "project_example" / "make_example.py")
     module = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(module)
-    from loopdocs.starter import write_index_workbook
+    from loopdocs.sheets.index_template import write_index_workbook
 
     write_index_workbook(tmp_path / "index.xlsx", module.rows())
     values = lambda p: [tuple(c.value for c in r) for r in openpyxl.load_workbook(p)["Index"].iter_rows()]  # noqa: E731

@@ -18,7 +18,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from loopdocs.calc.calibration import (
+from loopdocs.calc.tables import (
     DP_BASIS,
     DP_PCT_UNIT,
     DpRange,
@@ -26,8 +26,8 @@ from loopdocs.calc.calibration import (
     transmitter_table,
 )
 from loopdocs.calc.signals import MA_4_20, PSIG_3_15
-from loopdocs.calibration import calibration_set
-from loopdocs.pipeline import load_project
+from loopdocs.calibration.project_tables import calibration_set
+from loopdocs.model.loading import load_project
 
 
 def _point(table, pct, direction="up"):
@@ -207,7 +207,7 @@ def flow_index(index_files):
 
 
 def _flow_findings(index_files, path):
-    from loopdocs.pipeline import check_project
+    from loopdocs.checks import check_project
 
     return [f for f in check_project(path).findings if f.rule.startswith("flow.")]
 
@@ -256,8 +256,8 @@ def test_verify_passes_a_correct_flow_transmitter(flow_index, tmp_path):
     # must pass; the old wrong pairing (12 mA at 25 % flow) must fail.
     import openpyxl
 
-    from loopdocs.calibration_workbook import HEADER_ROW, read_workbook, write_workbook
-    from loopdocs.verify import verify
+    from loopdocs.sheets.technicians_workbook import HEADER_ROW, read_workbook, write_workbook
+    from loopdocs.calibration.grading import verify
 
     project, _ = load_project(flow_index)
     cset = calibration_set(project).select(["FT-601"])

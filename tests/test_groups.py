@@ -22,9 +22,9 @@ from hypothesis import given, settings as hyp_settings
 from hypothesis import strategies as st
 
 from loopdocs.checks import run_checks
-from loopdocs.model.build import build_project
+from loopdocs.checks import check_project
+from loopdocs.model.from_rows import build_project
 from loopdocs.model.groups import build_groups, groups_for
-from loopdocs.pipeline import check_project
 from loopdocs.read import IndexRow, IndexTable
 from loopdocs.read.columns import COLUMNS
 
@@ -170,7 +170,7 @@ def test_check_json_of_the_example_follows_design_5():
 
 def test_check_of_the_example_does_not_import_pint():
     # Every input range of the example is in its signal's own unit: no conversion needed.
-    code = "import sys; from loopdocs.pipeline import check_project; check_project(sys.argv[1]); print('pint' in sys.modules)"
+    code = "import sys; from loopdocs.checks import check_project; check_project(sys.argv[1]); print('pint' in sys.modules)"
     run = subprocess.run([sys.executable, "-c", code, str(EXAMPLE)], capture_output=True, text=True, cwd=REPO,
                          env={**os.environ, "PYTHONPATH": str(REPO)})
     assert run.stdout.strip() == "False", run.stderr

@@ -9,8 +9,8 @@ from __future__ import annotations
 
 import pytest
 
-from loopdocs.calc.calibration import CO_UNIT, loop_check_points_pct, loop_check_table, rising_falling
-from loopdocs.calc.split import Intent
+from loopdocs.calc.tables import CO_UNIT, loop_check_points_pct, loop_check_table, rising_falling
+from loopdocs.calc.travel import Intent
 
 TENS = [float(10 * k) for k in range(11)]
 
@@ -43,7 +43,7 @@ def _staged_rows(segments, method="dcs") -> list[dict]:
 
 
 def _loop_checks(index_files, rows) -> dict[str, object]:
-    from loopdocs.calibration import calibration_set
+    from loopdocs.calibration.project_tables import calibration_set
 
     project = index_files.check(rows).project
     return {t.tag: t for t in calibration_set(project).tables if t.kind == "loop check"}

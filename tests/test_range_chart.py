@@ -14,7 +14,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from loopdocs.calc.signals import MA_4_20
-from loopdocs.calc.split import Settings, realised_travel_pct
+from loopdocs.calc.travel import Settings, realised_travel_pct
 from loopdocs.draw.range_chart import (
     CHART_HEIGHT_MM,
     CHART_WIDTH_MM,
@@ -23,8 +23,8 @@ from loopdocs.draw.range_chart import (
     range_chart_svg,
     split_groups_to_chart,
 )
+from loopdocs.checks import check_project
 from loopdocs.model.groups import build_groups
-from loopdocs.pipeline import check_project
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from drawing_helpers import (  # noqa: E402
@@ -69,7 +69,7 @@ def test_example_charts_are_the_split_groups(charts, checked):
 
 
 def test_curves_are_the_realised_travel_of_the_settings(charts):
-    # DESIGN §3.2, evaluated by loopdocs.calc.split.realised_travel_pct directly from
+    # DESIGN §3.2, evaluated by loopdocs.calc.travel.realised_travel_pct directly from
     # each element's settings (and, for dcs, the control-system scaling).
     for controller, (group, chart) in charts.items():
         for element in group.elements:

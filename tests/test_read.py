@@ -20,8 +20,8 @@ import pytest
 from openpyxl import Workbook
 from openpyxl.utils import get_column_letter
 
-from loopdocs.errors import InputError
-from loopdocs.findings import Location
+from loopdocs.core.errors import InputError
+from loopdocs.core.findings import Location
 from loopdocs.read import IndexTable, read_index
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -14,16 +14,16 @@ from pathlib import Path
 import pytest
 from pypdf import PdfReader, PdfWriter
 
-from loopdocs.errors import InputError
-from loopdocs.findings import Acceptance, Finding, Severity
-from loopdocs.pipeline import check_project
+from loopdocs.checks import check_project
+from loopdocs.core.errors import InputError
+from loopdocs.core.findings import Acceptance, Finding, Severity
 from loopdocs.render.caltables import display_tables, distinct_points, fmt_number
 from loopdocs.render.pdf import JsonAttachment, ProjectFetcher, html_to_pdf
 from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
 from loopdocs.render.pieces import loop_pieces
 from loopdocs.render.settings import PAPERS, sheet_settings
+from loopdocs.draw.text import CAP_HEIGHT_EM  # DejaVu Sans, the sheet's typeface
 from loopdocs.render.sheet import (
-    CAP_HEIGHT_EM,
     SheetFrame,
     SheetPieces,
     UntrustedSVG,
@@ -31,7 +31,7 @@ from loopdocs.render.sheet import (
     sheet_html,
     trusted_svg,
 )
-from loopdocs.starter import write_index_workbook
+from loopdocs.sheets.index_template import write_index_workbook
 
 REPO = Path(__file__).resolve().parents[1]
 EXAMPLE = REPO / "project_example"
@@ -85,7 +85,7 @@ def test_sheet_shows_title_block_tags_and_calibration_values(t3105_pdf, example)
 
 
 def test_calibration_tables_print_each_point_once_and_merge_loop_checks(example):
-    from loopdocs.calibration import calibration_set
+    from loopdocs.calibration.project_tables import calibration_set
 
     tables = [t for t in calibration_set(example.project).tables if t.loop == "T-3105"]
     shown = display_tables(tables)
@@ -105,8 +105,8 @@ def test_calibration_tables_print_each_point_once_and_merge_loop_checks(example)
 def test_loop_calibrations_equal_the_project_calibration_set(example):
     # The sheet computes each loop's tables on the loop and its Driven By links only (so a
     # rebuild of one sheet does not compute the whole index); they must be the very tables
-    # loopdocs.calibration gives for the whole project.
-    from loopdocs.calibration import calibration_set
+    # loopdocs.calibration.project_tables gives for the whole project.
+    from loopdocs.calibration.project_tables import calibration_set
     from loopdocs.render.pieces import loop_calibrations
 
     project = example.project
@@ -124,8 +124,7 @@ def test_loop_part_draws_the_same_diagram_and_charts(example):
     # Sheets draw from the loop's part of the project (pieces.loop_project); loopdocs draw
     # works on the whole project: the SVG must be byte for byte the same.
     from loopdocs.draw.export import loop_charts, loop_diagram_svg
-    from loopdocs.render.build import loop_findings
-    from loopdocs.render.pieces import loop_project
+    from loopdocs.render.pieces import loop_findings, loop_project
 
     project, state = example.project, {}
     findings = loop_findings(example.findings, project)
@@ -292,7 +291,7 @@ def test_sheet_settings_are_validated():
 def test_starter_config_documents_the_sheet_table():
     import tomllib
 
-    from loopdocs.starter import STARTER_CONFIG
+    from loopdocs.sheets.index_template import STARTER_CONFIG
 
     assert sheet_settings(tomllib.loads(STARTER_CONFIG)["sheet"]).size == "A3"
     for key in ("author", "notes", "[[sheet.revisions]]", "[sheet.release_with_errors]"):

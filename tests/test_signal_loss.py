@@ -18,7 +18,7 @@ import itertools
 
 import pytest
 
-from loopdocs.calc.split import spring_fail_travel_pct, travel_on_signal_loss_pct
+from loopdocs.calc.travel import spring_fail_travel_pct, travel_on_signal_loss_pct
 
 AIC = {"tag": "AIC-501", "service": "Neutralisation tank pH", "platform": "dcs", "signal": "4-20 mA",
        "control_action": "direct"}

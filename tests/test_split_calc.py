@@ -1,11 +1,11 @@
-"""Split range: intent, settings, required settings, cross-check, arrangements (loopdocs.calc.split)."""
+"""Split range: intent, settings, required settings, cross-check, arrangements (loopdocs.calc.travel)."""
 
 import pytest
 from hypothesis import given, settings as hyp_settings
 from hypothesis import strategies as st
 
 from loopdocs.calc.signals import KPA_20_100, MA_4_20, PSIG_3_15, signal_at_fraction
-from loopdocs.calc.split import (
+from loopdocs.calc.travel import (
     TRAVEL_TOLERANCE_PCT,
     DcsScaling,
     Intent,

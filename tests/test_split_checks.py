@@ -1,5 +1,5 @@
 """Split-range, valve and loop-load rules (DESIGN §3.3): for each rule a spreadsheet made
-to fire it and a clean one that does not, checked with ``loopdocs.pipeline.check_project``;
+to fire it and a clean one that does not, checked with ``loopdocs.checks.check_project``;
 each finding's rule, severity, tags and cell are asserted.
 
 Reference values, with their sources:

@@ -13,8 +13,8 @@ from __future__ import annotations
 import io
 import json
 
+from loopdocs.commands.check_report import check_json, print_splits
 from loopdocs.draw.range_chart import chart_layout
-from loopdocs.report import check_json, print_splits
 
 CTRL = {"tag": "TIC-101", "service": "Test tank temperature", "platform": "dcs", "signal": "4-20 mA",
         "control_action": "reverse"}

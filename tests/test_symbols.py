@@ -68,7 +68,7 @@ def _shapes(symbol: lib.Symbol, tag: str) -> list[dict[str, str]]:
 
 
 def _load_script():
-    spec = importlib.util.spec_from_file_location("make_contact_sheet", SYMBOLS_DIR / "make_contact_sheet.py")
+    spec = importlib.util.spec_from_file_location("make_contact_sheet", Path(__file__).resolve().parents[1] / "docs" / "make_contact_sheet.py")
     module = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(module)
     return module

@@ -15,12 +15,12 @@ import openpyxl
 import pytest
 from typer.testing import CliRunner
 
-from loopdocs.calibration import calibration_set
-from loopdocs.calibration_workbook import HEADER_ROW, read_workbook, write_workbook
+from loopdocs.calibration.grading import judge_reading, verify
+from loopdocs.calibration.project_tables import calibration_set
 from loopdocs.cli import app
-from loopdocs.pipeline import load_project
-from loopdocs.starter import write_index_workbook
-from loopdocs.verify import judge_reading, verify
+from loopdocs.model.loading import load_project
+from loopdocs.sheets.index_template import write_index_workbook
+from loopdocs.sheets.technicians_workbook import HEADER_ROW, read_workbook, write_workbook
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from workbook_helpers import Filler, by_ref  # noqa: E402

@@ -22,10 +22,10 @@ import openpyxl
 import pytest
 from typer.testing import CliRunner
 
-from loopdocs.calibration_workbook import read_workbook
+from loopdocs.calibration.grading import verify
 from loopdocs.cli import app
-from loopdocs.starter import write_index_workbook
-from loopdocs.verify import verify
+from loopdocs.sheets.index_template import write_index_workbook
+from loopdocs.sheets.technicians_workbook import read_workbook
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from workbook_helpers import Filler, by_ref  # noqa: E402

@@ -6,7 +6,7 @@ from pathlib import Path
 
 import openpyxl
 
-from loopdocs.calibration_workbook import HEADER_ROW
+from loopdocs.sheets.technicians_workbook import HEADER_ROW
 
 
 class Filler:

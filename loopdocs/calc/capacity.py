@@ -12,7 +12,7 @@ from dataclasses import dataclass
 from typing import Sequence
 
 from loopdocs.calc.signals import clamp01
-from loopdocs.calc.split import Intent, intended_travel_pct
+from loopdocs.calc.travel import Intent, intended_travel_pct
 
 CHARACTERISTICS = ("linear", "equal-percentage", "quick-opening")
 #: Inherent rangeability assumed for equal-percentage trim when none is given (common practice).
@@ -218,7 +218,7 @@ def combined_capacity_curve(
     """Total flow coefficient against CO for a range chart: ``[(co_pct, total_cv), ...]``.
 
     ``total_cv(CO) = sum Cv_i * f_i(travel_i(CO) / 100)`` with the intended travel
-    (:func:`loopdocs.calc.split.intended_travel_pct`) and the inherent curve
+    (:func:`loopdocs.calc.travel.intended_travel_pct`) and the inherent curve
     (:func:`inherent_flow_fraction`). CO runs 0 to 100 % in ``step_pct`` steps, 100 %
     always included. ``rangeabilities`` None means 50 for every element.
 

@@ -19,7 +19,7 @@ from __future__ import annotations
 
 from dataclasses import replace
 
-from loopdocs.calc.calibration import (
+from loopdocs.calc.tables import (
     TRAVEL_UNIT,
     CalibrationTable,
     Point,
@@ -27,7 +27,7 @@ from loopdocs.calc.calibration import (
     Tolerance,
     signal_for_travel,
 )
-from loopdocs.calc.split import Settings
+from loopdocs.calc.travel import Settings
 
 #: Travel held before the air is removed, %.
 HOLD_TRAVEL_PCT = 50.0

@@ -39,7 +39,7 @@ own but cannot all be true together.
   head-mounted or integral transmitter may have been written on its row); an error for
   a well (a thermowell or probe pocket carries no signal at all).
 
-``sensor_range_problems`` is shared with ``loopdocs.calibration``, so a tag skipped
+``sensor_range_problems`` is shared with ``loopdocs.calibration.project_tables``, so a tag skipped
 for its range is skipped with the same words, quoting the index's own value and unit.
 """
 
@@ -50,7 +50,7 @@ from typing import Iterator
 
 from loopdocs.calc import rtd, thermocouple
 from loopdocs.calc.units import convert, quantity_of
-from loopdocs.findings import Finding, Severity
+from loopdocs.core.findings import Finding, Severity
 from loopdocs.model.records import Project, Tag
 from loopdocs.model.tagname import TagKind
 from loopdocs.model.vocab import Sensor, Signal

@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Callable, Iterable, Iterator
 
-from loopdocs.findings import Finding, Location, Severity
+from loopdocs.core.findings import Finding, Location, Severity
 from loopdocs.model.groups import SplitElement, SplitGroup, fmt_pct, groups_for
 from loopdocs.model.records import Project
 

@@ -4,7 +4,7 @@ A root-extracting DP flow transmitter (Transfer ``sqrt``) gives an output linear
 while the technician applies differential pressure, ``DP / DP_span = (flow / flow_span)^2``
 (ISO 5167-1: flow through a DP device is proportional to sqrt(DP)). Its range is written
 either as the DP range (pressure units) or as the flow range (flow units, with the DP
-range in DP Low/DP High/DP Units). See ``loopdocs.calc.calibration.sqrt_flow_table``.
+range in DP Low/DP High/DP Units). See ``loopdocs.calc.tables.sqrt_flow_table``.
 
 - ``flow.sqrt-units`` (error): Transfer sqrt with Units that are neither a flow nor a
   pressure (``sqrt`` on a temperature or a level range): no table can be right.
@@ -27,7 +27,7 @@ import math
 from typing import Iterator
 
 from loopdocs.calc.units import is_flow, is_pressure
-from loopdocs.findings import Finding, Severity
+from loopdocs.core.findings import Finding, Severity
 from loopdocs.model.records import Project, Tag
 from loopdocs.model.vocab import Transfer
 

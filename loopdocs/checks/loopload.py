@@ -1,4 +1,4 @@
-"""Loop-load and channel rules (DESIGN §3.3), run with the split rules by ``checks/split.py``:
+"""Loop-load and channel rules (DESIGN §3.3), run with the split rules by ``checks/split_rules.py``:
 
 - ``loop.load`` (error): the devices in series on one analog output drop
   ``sum(Device Volts)`` at 20 mA; that must not exceed the output's Loop Volts (compliance
@@ -20,8 +20,8 @@ from __future__ import annotations
 from typing import Iterator
 
 from loopdocs.checks.context import Context, Unverified
-from loopdocs.findings import Finding, Severity
-from loopdocs.model.build import natural_key
+from loopdocs.core.findings import Finding, Severity
+from loopdocs.model.from_rows import natural_key
 from loopdocs.model.groups import SplitGroup
 from loopdocs.model.records import Tag
 from loopdocs.model.tagname import TagKind

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Iterator
 
-from loopdocs.findings import Finding, Severity
+from loopdocs.core.findings import Finding, Severity
 from loopdocs.model.records import Project
 
 

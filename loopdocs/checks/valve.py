@@ -1,4 +1,4 @@
-"""Valve rules (DESIGN §3.3), run with the split rules by ``checks/split.py``:
+"""Valve rules (DESIGN §3.3), run with the split rules by ``checks/split_rules.py``:
 
 - ``valve.air-fail`` (error): a spring-return actuator fails where its spring pushes it:
   ATO fails closed (FC), ATC fails open (FO). FL and FAI are not spring positions and are
@@ -26,10 +26,10 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Iterator
 
-from loopdocs.calc.split import spring_fail_travel_pct, travel_on_signal_loss_pct
-from loopdocs.checks.context import Context, Unverified, capped, defaults_used, group_tags, segment_text, travel_text
-from loopdocs.findings import Finding, Severity
 from loopdocs.calc.signals import SignalSpan, pneumatic_span
+from loopdocs.calc.travel import spring_fail_travel_pct, travel_on_signal_loss_pct
+from loopdocs.checks.context import Context, Unverified, capped, defaults_used, group_tags, segment_text, travel_text
+from loopdocs.core.findings import Finding, Severity
 from loopdocs.model.groups import SplitElement, SplitGroup, canonical_unit, fmt_pct, fmt_range, span_of_signal
 from loopdocs.model.records import Tag
 from loopdocs.model.tagname import TagKind

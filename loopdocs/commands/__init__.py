@@ -10,7 +10,7 @@ from typing import Annotated, Any, NoReturn
 
 import typer
 
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 
 class OutputFormat(str, Enum):

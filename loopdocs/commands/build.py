@@ -8,7 +8,7 @@ from typing import Annotated, Optional
 import typer
 
 from loopdocs.commands import PathArg, fail_input
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 EXIT_BUILD_FAILED = 3
 
@@ -32,7 +32,7 @@ def build(
     """
     from rich.console import Console
 
-    from loopdocs.render.build import BuildError, build as run_build
+    from loopdocs.render.builder import BuildError, build as run_build
 
     console = Console(stderr=True, highlight=False)
     try:

@@ -1,6 +1,6 @@
 """``loopdocs calibrate``: calibration tables per tag, as text, JSON, or the technicians'
 workbook. The index is checked as ``loopdocs check`` does: on errors the tables of the
-tags involved are marked (``loopdocs.calibration_marks``) and the exit code is 1."""
+tags involved are marked (``loopdocs.calibration.marks``) and the exit code is 1."""
 
 from __future__ import annotations
 
@@ -11,7 +11,7 @@ from typing import Annotated, Optional
 import typer
 
 from loopdocs.commands import FormatOpt, OutputFormat, PathArg, emit_json, fail_input
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 
 class SheetPer(str, Enum):
@@ -49,9 +49,9 @@ def calibrate(
 
     Exit code 0 when done, 1 when the index has errors (tables still given, marked), 2 when the input could not be read or an option is wrong.
     """
-    from loopdocs.calibration import calibration_set
-    from loopdocs.calibration_marks import mark_index_errors
-    from loopdocs.pipeline import check_project
+    from loopdocs.calibration.project_tables import calibration_set
+    from loopdocs.calibration.marks import mark_index_errors
+    from loopdocs.checks import check_project
 
     try:
         if pressure_unit:
@@ -68,7 +68,7 @@ def calibrate(
             if not cset.tables and not cset.skipped:
                 raise InputError(f"no tag or loop matches {', '.join(tag)}")
         if out is not None:
-            from loopdocs.calibration_workbook import write_workbook
+            from loopdocs.sheets.technicians_workbook import write_workbook
 
             try:
                 counts = write_workbook(cset, out, sheet_per=sheet_per.value)
@@ -79,11 +79,11 @@ def calibrate(
     if format is OutputFormat.json:
         emit_json({**cset.as_json(), "index_errors": [f.as_json() for f in errors]})
     elif out is None:
-        from loopdocs.calibration_text import print_calibration
+        from loopdocs.commands.calibration_text import print_calibration
 
         print_calibration(cset)
     else:
-        from loopdocs.calibration_text import print_summary
+        from loopdocs.commands.calibration_text import print_summary
 
         print_summary(cset)
     err = format is OutputFormat.json

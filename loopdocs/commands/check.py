@@ -7,7 +7,7 @@ import gc
 import typer
 
 from loopdocs.commands import FormatOpt, OutputFormat, PathArg, emit_json, fail_input
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 
 def check(path: PathArg, format: FormatOpt = OutputFormat.text) -> None:
@@ -15,8 +15,8 @@ def check(path: PathArg, format: FormatOpt = OutputFormat.text) -> None:
 
     Exit code 0 when no error was found, 1 when one was, 2 when the input could not be read.
     """
-    from loopdocs.pipeline import check_project
-    from loopdocs.report import check_json, print_check
+    from loopdocs.checks import check_project
+    from loopdocs.commands.check_report import check_json, print_check
 
     # A one-shot command builds many small records that all live to the end: the cyclic
     # garbage collector only costs time here (about a third of a 10,000-row check).

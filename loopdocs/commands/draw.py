@@ -8,7 +8,7 @@ from typing import Annotated
 import typer
 
 from loopdocs.commands import PathArg, fail_input
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 OutOpt = Annotated[Path, typer.Option("--out", "-o", help="Folder for the SVG files (created if missing).")]
 
@@ -22,7 +22,7 @@ def draw(path: PathArg, out: OutOpt = Path("drawings")) -> None:
     Files whose content did not change are left as they are. Exit code 2 when the input could not be read.
     """
     from loopdocs.draw.export import drawing_files, write_drawings
-    from loopdocs.pipeline import check_project
+    from loopdocs.checks import check_project
 
     try:
         checked = check_project(path)

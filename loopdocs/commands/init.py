@@ -8,12 +8,12 @@ from typing import Annotated
 import typer
 
 from loopdocs.commands import fail_input
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 
 def init(directory: Annotated[Path, typer.Argument(help="Folder to create the starter project in.")]) -> None:
     """Write a starter project: an index workbook with the default headers, drop-down lists and header notes, and a commented loopdocs.toml."""
-    from loopdocs.starter import write_starter
+    from loopdocs.sheets.index_template import write_starter
 
     try:
         written = write_starter(directory)

@@ -8,7 +8,7 @@ from typing import Annotated, Optional
 import typer
 
 from loopdocs.commands import FormatOpt, OutputFormat, emit_json, fail_input
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 WorkbookArg = Annotated[Path, typer.Argument(help="A calibration workbook written by loopdocs calibrate --out, filled in.")]
 SummaryOpt = Annotated[Optional[Path], typer.Option("--out", "-o", help="Also write the results to this .xlsx.")]
@@ -26,13 +26,13 @@ def verify(workbook: WorkbookArg, format: FormatOpt = OutputFormat.text, out: Su
 
     Exit code 0 when every tested point passes, 1 when a point fails, reads a failure current or an unreadable entry, a row is refused or nothing was tested, 2 when the workbook cannot be read.
     """
-    from loopdocs.calibration_workbook import read_workbook
-    from loopdocs.verify import verify as judge
+    from loopdocs.sheets.technicians_workbook import read_workbook
+    from loopdocs.calibration.grading import verify as judge
 
     try:
         report = judge(read_workbook(workbook))
         if out is not None:
-            from loopdocs.verify_summary import write_summary
+            from loopdocs.sheets.verify_summary import write_summary
 
             try:
                 write_summary(report, out)

@@ -1,5 +1,5 @@
 """Drawings of a project as SVG files: one loop diagram per loop, one range chart per
-split group, named from the loop id (``loopdocs.names``).
+split group, named from the loop id (``loopdocs.core.names``).
 
 This is what ``loopdocs draw`` writes and what the sheet renderer embeds:
 
@@ -18,7 +18,7 @@ from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from loopdocs.findings import Finding
+from loopdocs.core.findings import Finding
 from loopdocs.model.records import Project
 
 DIAGRAM_SUFFIX = ".loop.svg"
@@ -62,7 +62,7 @@ def drawing_files(project: Project, findings: Sequence[Finding] = (),
                   progress: Callable[[str], None] | None = None) -> list[DrawingFile]:
     """Every diagram and chart of the project, in loop order, with collision-free names."""
     from loopdocs.draw.range_chart import range_chart_svg
-    from loopdocs.names import unique_filenames
+    from loopdocs.core.names import unique_filenames
 
     groups = _chart_groups(project)
     per_loop: dict[str, list] = {}
@@ -88,7 +88,7 @@ def drawing_files(project: Project, findings: Sequence[Finding] = (),
 
 def write_drawings(files: Iterable[DrawingFile], out_dir: Path) -> tuple[list[Path], list[Path]]:
     """Write each file into ``out_dir`` atomically; return (written, unchanged) paths."""
-    from loopdocs.starter import atomic_write
+    from loopdocs.core.files import atomic_write
 
     out_dir = Path(out_dir)
     written: list[Path] = []

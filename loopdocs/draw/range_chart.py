@@ -5,7 +5,7 @@ size, ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM`` (about the space an A3 loop sheet
 
 - travel %, 0 to 100, against CO %, 0 to 100, one line per element, labelled with its
   tag. The line is the travel the element's *settings* give (DESIGN §3.2,
-  ``loopdocs.calc.split.realised_travel_pct``); where that differs from the intent by
+  ``loopdocs.calc.travel.realised_travel_pct``); where that differs from the intent by
   more than the 1 % tolerance the intent is drawn too, thin and dashed. Without usable
   settings the intent is drawn and the label says so;
 - a second x-axis in the shared signal's units (mA, psig, kPa) for ``positioner`` and
@@ -38,8 +38,8 @@ from loopdocs.draw.geometry import (
     Point,
     Rect,
 )
+from loopdocs.core.findings import Finding, Severity
 from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm
-from loopdocs.findings import Finding, Severity
 from loopdocs.model.groups import SplitElement, SplitGroup, fmt_pct, fmt_signal
 
 CHART_WIDTH_MM = 180.0

@@ -1,5 +1,5 @@
-"""The symbol library: load the SVG symbols in the repository's ``symbols/`` folder and the
-signal line styles in ``symbols/lines.json``.
+"""The symbol library: load the SVG symbols shipped in the package's ``symbols/`` folder and
+the signal line styles in ``symbols/lines.json``.
 
 Conventions of a symbol file (see ``symbols/README.md``):
 
@@ -163,13 +163,18 @@ class Symbol:
 
 
 def symbols_dir() -> Path:
-    """The symbol folder: ``$LOOPDOCS_SYMBOLS_DIR`` if set, else ``symbols/`` at the
-    repository root (two levels above this package; this holds for an editable install)."""
+    """The symbol folder: ``$LOOPDOCS_SYMBOLS_DIR`` if set, else the ``symbols`` folder
+    shipped inside the package (``importlib.resources``; a wheel installs it as files)."""
     override = os.environ.get(SYMBOLS_DIR_ENV)
-    folder = Path(override) if override else Path(__file__).resolve().parents[2] / "symbols"
+    if override:
+        folder = Path(override)
+    else:
+        from importlib import resources
+
+        folder = Path(str(resources.files("loopdocs").joinpath("symbols")))
     if not folder.is_dir():
         raise SymbolError(
-            f"symbol folder not found: {folder} (set {SYMBOLS_DIR_ENV} to the symbols/ folder)"
+            f"symbol folder not found: {folder} (set {SYMBOLS_DIR_ENV} to a folder of loopdocs symbols)"
         )
     return folder
 

@@ -32,7 +32,7 @@ Public API
     ``controller`` (tag as written in Driven By), ``loop``, ``controller_record`` (the
     controller's ``Tag`` or ``None`` if not in the index), ``converters`` (relay ``Tag``s),
     ``elements`` (``SplitElement``s in CO order; elements without a usable intent last),
-    ``arrangement`` (``loopdocs.calc.split.Arrangement`` of the usable elements or
+    ``arrangement`` (``loopdocs.calc.travel.Arrangement`` of the usable elements or
     ``None``), ``mode`` (``opposed``, ``staged``, ``staged-opposed``, ``parallel``,
     ``mixed``, or ``single`` for one element; ``incomplete`` when fewer than two elements of a
     larger group are usable), ``invalid`` (elements without a usable intent), ``method`` (common split method or
@@ -88,7 +88,7 @@ from loopdocs.calc.capacity import (
     combined_capacity_curve,
 )
 from loopdocs.calc.signals import KPA_20_100, MA_4_20, PSIG_3_15, SignalSpan, pneumatic_span
-from loopdocs.calc.split import (
+from loopdocs.calc.travel import (
     SHARED_TOLERANCE_PCT,
     Arrangement,
     DcsScaling,
@@ -371,7 +371,7 @@ def _num(value: float) -> float:
 
 def build_groups(project: Project) -> list[SplitGroup]:
     """Every split group of the project, in natural order of the controller tag."""
-    from loopdocs.model.build import natural_key
+    from loopdocs.model.from_rows import natural_key
 
     tags = project.tags
     members: dict[str, list[Tag]] = defaultdict(list)

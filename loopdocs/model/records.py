@@ -3,7 +3,7 @@ the project (all loops, with where each value came from).
 
 Records hold clean values only: enumerations are ``Vocab`` members, numbers are floats,
 blanks are ``None``. Converting a row into a record and reporting what could not be
-converted is ``loopdocs.model.build``; checks read records, never the spreadsheet.
+converted is ``loopdocs.model.from_rows``; checks read records, never the spreadsheet.
 """
 
 from __future__ import annotations
@@ -12,8 +12,9 @@ from typing import Any
 
 from pydantic import BaseModel, ConfigDict, Field
 
-from loopdocs.findings import Location
+from loopdocs.core.findings import Location
 from loopdocs.model.tagname import TagKind, TagParts
+from loopdocs.read.project_file import ProjectConfig
 from loopdocs.model.vocab import (
     AirAction,
     Characteristic,
@@ -116,57 +117,6 @@ class Loop(BaseModel):
     tags: tuple[str, ...]
     service: str | None = None
     """The controller's service if there is one, else the first tag's that has one."""
-
-
-class TitleBlock(BaseModel):
-    """What the title block of every sheet shows (from ``loopdocs.toml``)."""
-
-    model_config = ConfigDict(extra="forbid")
-
-    project: str = "Untitled project"
-    client: str = ""
-    unit: str = ""
-    drawing_number: str = "LS-{loop}"
-    """Pattern for the drawing number; ``{loop}`` is replaced by the loop id."""
-    revision: str = "A"
-    date: str = ""
-    drawn: str = ""
-    checked: str = ""
-    approved: str = ""
-
-
-class AcceptedFinding(BaseModel):
-    """A finding accepted on purpose by engineering review (DESIGN §5)."""
-
-    model_config = ConfigDict(extra="forbid")
-
-    rule: str
-    tag: str
-    reason: str
-    by: str
-
-
-class IndexSettings(BaseModel):
-    model_config = ConfigDict(extra="forbid")
-
-    file: str | None = None
-    """Index file, relative to the project folder; default: the only .xlsx/.xlsm/.csv there."""
-    sheet: str | None = None
-    tag_pattern: str | None = None
-
-
-class ProjectConfig(BaseModel):
-    """The contents of ``loopdocs.toml``; every table is optional."""
-
-    model_config = ConfigDict(extra="forbid")
-
-    index: IndexSettings = Field(default_factory=IndexSettings)
-    columns: dict[str, str] = Field(default_factory=dict)
-    """Extra header map: header as written in the index -> loopdocs column key or header."""
-    title_block: TitleBlock = Field(default_factory=TitleBlock)
-    accept: list[AcceptedFinding] = Field(default_factory=list)
-    sheet: dict[str, Any] = Field(default_factory=dict)
-    """Loop-sheet settings (paper size and the like), read by the renderer."""
 
 
 class Project(BaseModel):

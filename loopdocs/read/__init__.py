@@ -2,14 +2,14 @@
 
 ``read_index(path)`` finds the sheet and header row, maps headers to column keys
 (``loopdocs.read.columns``) and returns an :class:`IndexTable`. Anything that stops the
-file being read as a whole raises :class:`loopdocs.errors.InputError` with one line.
+file being read as a whole raises :class:`loopdocs.core.errors.InputError` with one line.
 """
 
 from __future__ import annotations
 
 from pathlib import Path
 
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 from loopdocs.read.table import CellValue, IndexRow, IndexTable, ReadNotice
 
 WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")

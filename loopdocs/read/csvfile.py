@@ -20,8 +20,8 @@ import re
 from itertools import islice
 from pathlib import Path
 
-from loopdocs.errors import InputError
-from loopdocs.findings import Location
+from loopdocs.core.errors import InputError
+from loopdocs.core.findings import Location
 from loopdocs.read.grid import (
     HEADER_SEARCH_ROWS,
     build_table,

@@ -9,7 +9,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any, Callable, Sequence
 
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 from loopdocs.read.columns import BY_KEY, header_lookup, normalise_header
 from loopdocs.read.table import CellValue, IndexRow, IndexTable, ReadNotice
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from loopdocs.findings import Location
+from loopdocs.core.findings import Location
 
 CellValue = str | float | int | bool | None
 

@@ -17,8 +17,8 @@ import zipfile
 from pathlib import Path
 from typing import Any
 
-from loopdocs.errors import InputError
-from loopdocs.findings import Location
+from loopdocs.core.errors import InputError
+from loopdocs.core.findings import Location
 from loopdocs.read.grid import (
     HEADER_SEARCH_ROWS,
     build_table,

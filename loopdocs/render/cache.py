@@ -26,8 +26,8 @@ from pathlib import Path
 from typing import Any
 
 from loopdocs import __version__
-from loopdocs.render.files import shareable
-from loopdocs.starter import atomic_write
+from loopdocs.core.files import shareable
+from loopdocs.core.files import atomic_write
 
 CACHE_DIR_NAME = ".loopdocs-cache"
 MANIFEST_NAME = "manifest.json"

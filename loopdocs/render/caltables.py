@@ -1,6 +1,6 @@
 """Calibration tables as the sheet prints them: column heads and rows of text.
 
-Input: ``loopdocs.calc.calibration.CalibrationTable`` (made by ``loopdocs.calibration``).
+Input: ``loopdocs.calc.tables.CalibrationTable`` (made by ``loopdocs.calibration.project_tables``).
 Nothing is computed here beyond layout; decimals come from ``display_decimals`` and the
 NAMUR NE 43 line from ``ne43_note`` of the calibration module, so the sheet, the
 terminal and the workbook show the same figures.
@@ -20,7 +20,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from loopdocs.calc.calibration import DP_BASIS, DP_PCT_UNIT, CalibrationTable, Point, display_decimals, ne43_note
+from loopdocs.calc.tables import DP_BASIS, DP_PCT_UNIT, CalibrationTable, Point, display_decimals, ne43_note
 
 PERCENT_HEADS = {"final element": "% travel", "fail action": "% travel held", "loop check": "% CO"}
 LOOP_CHECK = "loop check"

@@ -13,11 +13,11 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from loopdocs import __version__
-from loopdocs.model.records import TitleBlock
+from loopdocs.core.files import atomic_write
+from loopdocs.core.wording import CAUTION
+from loopdocs.read.project_file import TitleBlock
 from loopdocs.render.settings import SheetSettings
 from loopdocs.render.sheet import current_revision, document_author, environment, page_css, revisions
-from loopdocs.report import CAUTION
-from loopdocs.starter import atomic_write
 
 
 @dataclass(frozen=True)
@@ -121,7 +121,7 @@ def write_package(path: Path, front_pdfs: Sequence[Path], sheets: Sequence[tuple
     """Join the front matter (its parts in order) and the sheets (``(pdf path, bookmark
     title)`` in loop order) into ``path``; returns the page count. With ``fragment_dir`` each source is parsed
     once and kept there as a fragment for the next join."""
-    from loopdocs.render.files import shareable
+    from loopdocs.core.files import shareable
     from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
 
     revision = current_revision(title_block, settings)

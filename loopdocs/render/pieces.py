@@ -1,5 +1,5 @@
 """Gather what one loop sheet shows from the stages upstream: the loop diagram and the
-range charts (``loopdocs.draw``), the calibration tables (``loopdocs.calibration``) and
+range charts (``loopdocs.draw``), the calibration tables (``loopdocs.calibration.project_tables``) and
 the findings. No drawing or computing happens here.
 
 ``state`` is a per-process dict (the build worker's) that keeps what is computed once
@@ -11,7 +11,7 @@ from __future__ import annotations
 from collections.abc import MutableMapping, Sequence
 from typing import Any
 
-from loopdocs.findings import Finding
+from loopdocs.core.findings import Finding
 from loopdocs.model.records import Project
 from loopdocs.render.sheet import SheetPieces
 
@@ -50,6 +50,47 @@ def linked_tags(project: Project, loop_id: str, state: MutableMapping[str, Any])
     return sorted(found, key=lambda n: project.tags[n].row)
 
 
+def loop_findings(findings: Sequence[Finding], project: Project) -> dict[str, list[Finding]]:
+    """Findings by loop id: a finding's own loop, else the loops of the tags it names."""
+    by_loop: dict[str, list[Finding]] = {loop_id: [] for loop_id in project.loops}
+    for finding in findings:
+        loops = {finding.loop} if finding.loop in by_loop else {
+            project.tags[t].loop for t in finding.tags if t in project.tags}
+        for loop_id in loops:
+            by_loop[loop_id].append(finding)
+    return by_loop
+
+
+def tag_record(project: Project, name: str) -> dict[str, Any]:
+    """A tag as JSON for the cache key and the PDF/A attachment (no spreadsheet row)."""
+    tag = project.tags.get(name)
+    if tag is None:
+        return {"tag": name, "missing": True}
+    data = tag.model_dump(mode="json", exclude={"row"})
+    return data
+
+
+def finding_record(finding: Finding) -> dict[str, Any]:
+    data = finding.as_json()
+    data.pop("location", None)
+    return data
+
+
+def loop_record(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any] = (),
+                state: dict[str, Any] | None = None) -> dict[str, Any]:
+    """What one sheet shows, as JSON: the loop, its tags and the tags linked to them by
+    Driven By (``pieces.linked_tags``), its findings and split groups. Hashed for the
+    cache; attached to the PDF/A sheet. ``state`` keeps the Driven By index between calls."""
+    loop = project.loops[loop_id]
+    names = list(dict.fromkeys([*loop.tags, *linked_tags(project, loop_id, {} if state is None else state)]))
+    return {
+        "loop": loop.model_dump(mode="json"),
+        "tags": [tag_record(project, name) for name in names],
+        "findings": [finding_record(f) for f in findings],
+        "splits": [group.as_json() for group in splits],
+    }
+
+
 def loop_project(project: Project, loop_id: str, state: MutableMapping[str, Any]) -> Project:
     """The part of ``project`` that the calibration tables of ``loop_id`` depend on: its
     linked tags (:func:`linked_tags`) and their loops. Computing on it costs what the
@@ -63,7 +104,7 @@ def loop_calibrations(project: Project, loop_id: str, state: MutableMapping[str,
                       part: Project | None = None) -> list[Any]:
     """Calibration tables (``CalibrationTable``) of the loop's tags, measurement first
     (``part``: the loop's :func:`loop_project`, when already made)."""
-    from loopdocs.calibration import calibration_set
+    from loopdocs.calibration.project_tables import calibration_set
 
     part = part or loop_project(project, loop_id, state)
     tables = [t for t in calibration_set(part).tables
@@ -94,7 +135,6 @@ def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], spl
     project's split groups for every sheet (``groups_for`` keeps the last project only).
     """
     from loopdocs.draw.export import loop_charts, loop_diagram_svg
-    from loopdocs.render.build import loop_record
 
     loop = project.loops[loop_id]
     tags = project.tags_of(loop_id)

@@ -28,7 +28,7 @@ from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator
 
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
 
 MM_PER_INCH = 25.4
 

@@ -21,20 +21,20 @@ and 2.5 mm type gives 1.82 mm capitals (``tests/test_render.py`` measures this o
 from __future__ import annotations
 
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
 from loopdocs import __version__
-from loopdocs.calc.calibration import CalibrationTable
-from loopdocs.draw.text import CAP_HEIGHT_EM  # DejaVu Sans, the sheet's typeface
-from loopdocs.findings import Finding, Severity
-from loopdocs.model.records import Loop, Tag, TitleBlock
+from loopdocs.calc.tables import CalibrationTable
+from loopdocs.core.findings import Finding, Severity
+from loopdocs.core.wording import CAUTION
+from loopdocs.model.records import Loop, Tag
+from loopdocs.read.project_file import TitleBlock
 from loopdocs.render.caltables import display_tables, fmt_number, packing_order
 from loopdocs.render.settings import Revision, SheetSettings
-from loopdocs.report import CAUTION
 
 TEMPLATES_DIR = Path(__file__).resolve().parent.parent / "templates"
 
@@ -51,7 +51,7 @@ class SheetPieces:
     range_charts_svg: Sequence[str] = ()
     """One range chart per split group of the loop (SVG made by ``loopdocs.draw``)."""
     calibrations: Sequence[CalibrationTable] = ()
-    """Calibration tables of the loop's instruments and final elements (``loopdocs.calibration``)."""
+    """Calibration tables of the loop's instruments and final elements (``loopdocs.calibration.project_tables``)."""
     findings: Sequence[Finding] = ()
 
 

@@ -1,7 +1,7 @@
 """Split-range checks (DESIGN §3.3): each rule a small function over the split groups of
 ``loopdocs.model.groups``; valve and loop-load rules are in ``checks/valve.py`` and
-``checks/loopload.py``. ``checks(project)`` runs them all and merges what could not be
-verified into one ``check.not-verified`` info per tag or group.
+``checks/loopload.py``. The registry (``loopdocs.checks``) runs them all and merges what
+could not be verified into one ``check.not-verified`` info per tag or group.
 
 Rules of this module:
 
@@ -38,7 +38,7 @@ from typing import Iterator
 
 from loopdocs.calc.capacity import CapacityAdvice
 
-from loopdocs.calc.split import (
+from loopdocs.calc.travel import (
     SHARED_TOLERANCE_PCT,
     TRAVEL_TOLERANCE_PCT,
     Settings,
@@ -56,9 +56,8 @@ from loopdocs.checks.context import (
     segment_text,
     travel_text,
 )
-from loopdocs.findings import Finding, Severity
+from loopdocs.core.findings import Finding, Severity
 from loopdocs.model.groups import INTENT_FROM_SETTINGS, SplitElement, fmt_pct, fmt_range
-from loopdocs.model.records import Project
 from loopdocs.model.tagname import TagKind
 
 #: Gaps and overlaps narrower than this, % CO, are rounding, not design.
@@ -406,18 +405,9 @@ def capacity_advice_text(advice: CapacityAdvice | None, high_band: float = GAIN_
     return "; ".join(parts)
 
 
-# --------------------------------------------------------------------------- entry point
+# --------------------------------------------------------------------------- registry
 
 
-def rules() -> tuple[Rule, ...]:
-    """Every split, valve and loop-load rule, in report order."""
-    from loopdocs.checks import loopload, valve
-
-    return (driver, orphan, segment, method, gap, overlap, settings, double_split, capacity,
-            valve.air_fail, valve.signal_loss, valve.control_sense, loopload.loop_load, loopload.shared_channel)
-
-
-def checks(project: Project) -> Iterator[Finding]:
-    """All split-range, valve and loop-load findings of the project."""
-    yield from collect(Context.of(project), rules())
-
+#: The split rules of this module, in report order (``loopdocs.checks`` runs them with the
+#: valve and loop-load rules).
+RULES: tuple[Rule, ...] = (driver, orphan, segment, method, gap, overlap, settings, double_split, capacity)

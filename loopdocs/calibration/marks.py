@@ -12,8 +12,8 @@ from __future__ import annotations
 from dataclasses import replace
 from typing import Iterable
 
-from loopdocs.calibration import CalibrationSet
-from loopdocs.findings import Finding
+from loopdocs.calibration.project_tables import CalibrationSet
+from loopdocs.core.findings import Finding
 
 MARK = "index has errors for this tag"
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from loopdocs.verify import VerifyReport
+from loopdocs.calibration.grading import VerifyReport
 
 _STATUS_FILL = {"pass": "C6EFCE", "fail": "FFC7CE", "failure current": "FFC7CE", "invalid": "FFC7CE",
                 "invalid entries": "FFC7CE", "refused": "F4B084",
@@ -17,8 +17,8 @@ def write_summary(report: VerifyReport, path: Path) -> None:
     from openpyxl.styles import Alignment, Font, PatternFill
     from openpyxl.worksheet.properties import PageSetupProperties
 
-    from loopdocs.report import CAUTION
-    from loopdocs.starter import atomic_write
+    from loopdocs.core.wording import CAUTION
+    from loopdocs.core.files import atomic_write
 
     wb = Workbook()
     ws = wb.active

@@ -1,7 +1,7 @@
 """Calibration tables: the values to apply and to expect at each test point (DESIGN §4).
 
 Pure functions on numbers; the tables of a whole project are built from its records in
-``loopdocs.calibration``. Percentages run 0 to 100.
+``loopdocs.calibration.project_tables``. Percentages run 0 to 100.
 
 Transmitters (and converters such as an I/P), five points rising then falling::
 
@@ -21,7 +21,7 @@ gives no DP range). Tolerance = Accuracy % of span, in input units
 (``acc * |URV - LRV|``) and output units (``acc * (high - low)``).
 
 Final elements: the input signal at 0, 25, 50, 75, 100 % travel from the positioner
-input range (or the spring range) of ``loopdocs.calc.split``; the loop check of a split
+input range (or the spring range) of ``loopdocs.calc.travel``; the loop check of a split
 group gives the expected travel at every 10 % of controller output.
 
 >>> t = transmitter_table("TT-1", 0.0, 150.0, "degC", MA_4_20)
@@ -45,7 +45,7 @@ from loopdocs.calc.signals import (
     signal_at_fraction,
     sqrt_transfer,
 )
-from loopdocs.calc.split import (
+from loopdocs.calc.travel import (
     TRAVEL_TOLERANCE_PCT,
     DcsScaling,
     Intent,

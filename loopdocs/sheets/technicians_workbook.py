@@ -23,16 +23,21 @@ detects edits; it is not a signature (anyone can recompute it).
 
 from __future__ import annotations
 
-import hashlib
-import math
 import re
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Iterable
 
-from loopdocs.calc.calibration import CalibrationTable, Point, display_decimals, ne43_note
-from loopdocs.calibration import CalibrationSet
-from loopdocs.errors import InputError
+from loopdocs.calc.tables import CalibrationTable, Point, display_decimals, ne43_note
+from loopdocs.calibration.project_tables import CalibrationSet
+from loopdocs.calibration.workbook_record import (
+    CHECK_NAMES,
+    IssuedRow,
+    ReturnedWorkbook,
+    SeenRow,
+    canonical_text,
+    row_digest,
+)
+from loopdocs.core.errors import InputError
 
 RECORD_SHEET = "_record"
 CONTENTS_SHEET = "Contents"
@@ -42,14 +47,6 @@ HEADER_ROW = 6
 SIMULATE = "Simulate / signal"
 FIRST_ROW = HEADER_ROW + 1
 
-CHECK_NAMES = {
-    "transmitter": "calibration",
-    "sensor": "sensor",
-    "converter": "converter",
-    "final element": "stroke",
-    "fail action": "fail action",
-    "loop check": "loop check",
-}
 POINT_BASIS = {
     "transmitter": "% of span",
     "sensor": "% of range",
@@ -70,97 +67,6 @@ _REF_PREFIX = {"loop check": "L", "fail action": "F"}
 _FILL_TITLE = "DCE6F1"
 _FILL_HEADER = "BFBFBF"
 _FILL_INPUT = "FFF2CC"
-
-
-# --------------------------------------------------------------------------- digest
-
-
-def canonical_text(value: Any) -> str:
-    """Canonical text of a cell value for the digest: numbers to 9 significant digits."""
-    if value is None or value == "":
-        return ""
-    if isinstance(value, (int, float)) and not isinstance(value, bool):
-        value = float(value)
-        if value == 0:
-            value = 0.0
-        return f"{value:.9g}"
-    return str(value).strip()
-
-
-def row_digest(ref: str, tag: str, check: str, percent: Any, direction: str, apply: Any,
-               expected: Any, unit: str, low: Any, high: Any) -> str:
-    """SHA-256 (first 16 hex digits) of the expected values of one visible row.
-
-    >>> row_digest("TT-1/01", "TT-1", "calibration", 0.0, "up", 0.0, 4.0, "mA", 3.96, 4.04)
-    '4c0b131f3c743ec5'
-    """
-    text = "|".join(canonical_text(v) for v in (ref, tag, check, percent, direction, apply, expected, unit, low, high))
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
-
-
-# --------------------------------------------------------------------------- rows
-
-
-@dataclass(frozen=True)
-class IssuedRow:
-    """One test row as issued (what the record sheet keeps)."""
-
-    ref: str
-    sheet: str
-    tag: str
-    check: str
-    loop: str
-    percent: float
-    direction: str
-    apply: float
-    apply_unit: str
-    expected: float
-    unit: str
-    low: float | None
-    high: float | None
-    output_span: float
-    tolerance_pct: float | None
-    digest: str
-
-    def own_digest(self) -> str:
-        return row_digest(self.ref, self.tag, self.check, self.percent, self.direction, self.apply,
-                          self.expected, self.unit, self.low, self.high)
-
-
-@dataclass(frozen=True)
-class SeenRow:
-    """One test row as found in the returned workbook (cells as read)."""
-
-    ref: str
-    sheet: str
-    row: int
-    tag: Any
-    check: Any
-    percent: Any
-    direction: Any
-    apply: Any
-    expected: Any
-    unit: Any
-    low: Any
-    high: Any
-    as_found: Any
-    as_left: Any
-    remarks: Any
-
-    def digest(self) -> str:
-        return row_digest(self.ref, self.tag, self.check, self.percent, self.direction, self.apply,
-                          self.expected, self.unit, self.low, self.high)
-
-
-@dataclass(frozen=True)
-class ReturnedWorkbook:
-    """What ``read_workbook`` found: the issued record and the visible rows."""
-
-    path: str
-    project: str
-    revision: str
-    issued: tuple[IssuedRow, ...]
-    seen: tuple[SeenRow, ...]
 
 
 def _sheet_key(table: CalibrationTable, cset: CalibrationSet, sheet_per: str) -> str:
@@ -269,8 +175,8 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     from openpyxl.worksheet.datavalidation import DataValidation
     from openpyxl.worksheet.properties import PageSetupProperties
 
-    from loopdocs.report import CAUTION
-    from loopdocs.starter import atomic_write
+    from loopdocs.core.wording import CAUTION
+    from loopdocs.core.files import atomic_write
 
     if sheet_per not in ("loop", "area"):
         raise ValueError(f"sheet_per must be loop or area, got {sheet_per!r}")
@@ -488,7 +394,7 @@ def _write_contents(ws: Any, cset: CalibrationSet, counts: dict[str, int], sheet
                     rj: float | None, bold: Any, PageSetupProperties: Any) -> None:
     from openpyxl.styles import Alignment, Font
 
-    from loopdocs.report import CAUTION
+    from loopdocs.core.wording import CAUTION
 
     ws["A1"] = f"Calibration workbook: {cset.project}"
     ws["A1"].font = Font(bold=True, size=14)

@@ -38,7 +38,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from loopdocs.calc.signals import NE43Levels, ne43_levels
-from loopdocs.calibration_workbook import CHECK_NAMES, ReturnedWorkbook, SeenRow, IssuedRow, canonical_text
+from loopdocs.calibration.workbook_record import CHECK_NAMES, IssuedRow, ReturnedWorkbook, SeenRow, canonical_text
 
 PASS, FAIL, NOT_TESTED, INVALID, NO_TOLERANCE, REFUSED = (
     "pass", "fail", "not tested", "invalid", "no tolerance", "refused",

@@ -8,12 +8,11 @@ header row and column widths that fit the headers.
 
 from __future__ import annotations
 
-import os
-import tempfile
 from pathlib import Path
 from typing import Any, Iterable, Mapping
 
-from loopdocs.errors import InputError
+from loopdocs.core.errors import InputError
+from loopdocs.core.files import atomic_write
 from loopdocs.read.columns import COLUMNS
 
 INDEX_SHEET = "Index"
@@ -77,19 +76,6 @@ def _header_note(key: str, meaning: str, accepted: list[str] | None) -> str:
     if accepted:
         text += "\nAccepted: " + ", ".join(accepted)
     return text
-
-
-def atomic_write(path: Path, write: Any) -> None:
-    """Call ``write(tmp_path)`` then rename into ``path``: never a half-written file."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".part")
-    os.close(fd)
-    try:
-        write(Path(tmp))
-        os.replace(tmp, path)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
 
 
 def write_index_workbook(path: Path, rows: Iterable[Mapping[str, Any]] = (), spare_rows: int = 200) -> None:

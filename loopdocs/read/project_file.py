@@ -1,4 +1,5 @@
-"""The project: where the index is and what ``loopdocs.toml`` says.
+"""The project file: where the index is and what ``loopdocs.toml`` says (its tables as
+pydantic models: index, columns, title block, accepted findings, sheet settings).
 
 A command's PATH is an index file (``.xlsx``, ``.xlsm``, ``.csv``) or a project folder
 holding ``loopdocs.toml``. A ``loopdocs.toml`` beside an index file is read too.
@@ -10,10 +11,62 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
-from pydantic import ValidationError
+from typing import Any
 
-from loopdocs.errors import InputError
-from loopdocs.model.records import ProjectConfig
+from pydantic import BaseModel, ConfigDict, Field, ValidationError
+
+from loopdocs.core.errors import InputError
+
+class TitleBlock(BaseModel):
+    """What the title block of every sheet shows (from ``loopdocs.toml``)."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    project: str = "Untitled project"
+    client: str = ""
+    unit: str = ""
+    drawing_number: str = "LS-{loop}"
+    """Pattern for the drawing number; ``{loop}`` is replaced by the loop id."""
+    revision: str = "A"
+    date: str = ""
+    drawn: str = ""
+    checked: str = ""
+    approved: str = ""
+
+
+class AcceptedFinding(BaseModel):
+    """A finding accepted on purpose by engineering review (DESIGN §5)."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    rule: str
+    tag: str
+    reason: str
+    by: str
+
+
+class IndexSettings(BaseModel):
+    model_config = ConfigDict(extra="forbid")
+
+    file: str | None = None
+    """Index file, relative to the project folder; default: the only .xlsx/.xlsm/.csv there."""
+    sheet: str | None = None
+    tag_pattern: str | None = None
+
+
+class ProjectConfig(BaseModel):
+    """The contents of ``loopdocs.toml``; every table is optional."""
+
+    model_config = ConfigDict(extra="forbid")
+
+    index: IndexSettings = Field(default_factory=IndexSettings)
+    columns: dict[str, str] = Field(default_factory=dict)
+    """Extra header map: header as written in the index -> loopdocs column key or header."""
+    title_block: TitleBlock = Field(default_factory=TitleBlock)
+    accept: list[AcceptedFinding] = Field(default_factory=list)
+    sheet: dict[str, Any] = Field(default_factory=dict)
+    """Loop-sheet settings (paper size and the like), read by the renderer."""
+
 
 CONFIG_NAME = "loopdocs.toml"
 INDEX_SUFFIXES = (".xlsx", ".xlsm", ".csv")

@@ -19,12 +19,13 @@ from collections import defaultdict
 from functools import lru_cache
 from typing import Any, Iterable
 
-from loopdocs.findings import Finding, Location, Severity
-from loopdocs.model.records import Loop, Project, ProjectConfig, Tag
+from loopdocs.core.findings import Finding, Location, Severity
+from loopdocs.model.records import Loop, Project, Tag
 from loopdocs.model.tagname import TagKind, TagParts, compile_tag_pattern, parse_tag, tag_kind
 from loopdocs.model.vocab import VOCAB_COLUMNS
 from loopdocs.read import IndexTable
 from loopdocs.read.columns import NUMERIC_KEYS
+from loopdocs.read.project_file import ProjectConfig
 
 _NUMBER_TEXT = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
 

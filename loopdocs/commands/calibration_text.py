@@ -6,8 +6,8 @@ is printed once; the workbook keeps both directions for the readings.
 
 from __future__ import annotations
 
-from loopdocs.calc.calibration import CalibrationTable, Point, display_decimals, ne43_note
-from loopdocs.calibration import CalibrationSet
+from loopdocs.calc.tables import CalibrationTable, Point, display_decimals, ne43_note
+from loopdocs.calibration.project_tables import CalibrationSet
 
 
 def _num(value: float, unit: str, span: float = 0.0, resolve: float | None = None) -> str:
@@ -47,7 +47,7 @@ def print_calibration(cset: CalibrationSet) -> None:
     from rich.console import Console
     from rich.table import Table
 
-    from loopdocs.report import CAUTION
+    from loopdocs.core.wording import CAUTION
 
     console = Console(highlight=False)
     console.print(f"[bold]{cset.project}[/] ({cset.index_path}): {len(cset.tables)} table(s)")
@@ -99,7 +99,7 @@ def print_summary(cset: CalibrationSet) -> None:
 
     from rich.console import Console
 
-    from loopdocs.report import CAUTION
+    from loopdocs.core.wording import CAUTION
 
     console = Console(highlight=False)
     tags = {t.tag for t in cset.tables}

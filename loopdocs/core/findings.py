@@ -7,7 +7,7 @@ cell to fix. The JSON form is the contract of ``../shared/DESIGN.md`` §5.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from enum import Enum
 from typing import Any, Iterable
 

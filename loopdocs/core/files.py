@@ -1,16 +1,31 @@
-"""Output files of the build: permissions and leftovers of interrupted writes.
+"""Writing output files: never half-written, with the usual permissions, and no leftovers.
 
-Every output is written through ``loopdocs.starter.atomic_write`` (a temporary
+Every output is written through :func:`atomic_write` (a temporary
 ``.<name>.<random>.part`` file in the same folder, then ``os.replace``), so a file under
-its final name is always complete. These helpers deal with the two side effects.
+its final name is always complete. The other helpers deal with its two side effects.
 """
 
 from __future__ import annotations
 
 import os
+import tempfile
 from pathlib import Path
+from typing import Any
 
 PARTIAL_GLOB = ".*.part"
+
+
+def atomic_write(path: Path, write: Any) -> None:
+    """Call ``write(tmp_path)`` then rename into ``path``: never a half-written file."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".part")
+    os.close(fd)
+    try:
+        write(Path(tmp))
+        os.replace(tmp, path)
+    except BaseException:
+        Path(tmp).unlink(missing_ok=True)
+        raise
 
 
 def shareable(path: Path) -> None:

@@ -5,14 +5,8 @@ from __future__ import annotations
 from itertools import groupby
 from typing import Any
 
-from loopdocs.findings import FindingCounts, Severity
-from loopdocs.pipeline import Checked
-
-CAUTION = (
-    "Values are to be confirmed against the issued design. Isolate and verify before any "
-    "work on live plant; local codes, site procedures and licensed engineering practice prevail."
-)
-
+from loopdocs.checks import Checked
+from loopdocs.core.findings import FindingCounts, Severity
 
 def check_json(checked: Checked) -> dict[str, Any]:
     """The ``check --format json`` object: findings, splits, summary."""

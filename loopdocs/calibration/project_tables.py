@@ -21,7 +21,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from typing import Any, Iterable
 
-from loopdocs.calc.calibration import (
+from loopdocs.calc.tables import (
     CalibrationTable,
     DpRange,
     converter_table,

@@ -2,8 +2,8 @@
 
 Steps (:func:`build`):
 
-1. read and check the project (``loopdocs.pipeline.check_project``), validate ``[sheet]``;
-2. give every loop its sheet number, output file name (``loopdocs.names``) and cache key
+1. read and check the project (``loopdocs.checks.check_project``), validate ``[sheet]``;
+2. give every loop its sheet number, output file name (``loopdocs.core.names``) and cache key
    (``loopdocs.render.cache``); loops whose output is fresh are reused;
 3. render the others in a ``ProcessPoolExecutor`` (``workers`` processes, default
    ``os.cpu_count()``, forked, in waves of ``SHEETS_PER_PROCESS`` sheets per worker so
@@ -40,14 +40,14 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from loopdocs.errors import InputError
-from loopdocs.findings import Finding, FindingCounts
+from loopdocs.core.errors import InputError
+from loopdocs.core.files import remove_partials, shareable
+from loopdocs.core.files import atomic_write
+from loopdocs.core.findings import Finding, FindingCounts
 from loopdocs.model.records import Project
 from loopdocs.render.cache import CACHE_DIR_NAME, Manifest, digest_json, environment_digest, loop_key
-from loopdocs.render.files import remove_partials, shareable
 from loopdocs.render.settings import SheetSettings, sheet_settings
 from loopdocs.render.sheet import TEMPLATES_DIR, current_revision, drawing_number, has_blocking_error
-from loopdocs.starter import atomic_write
 
 PACKAGE_NAME = "loop-sheets.pdf"
 LOOPS_DIR = "loops"
@@ -86,51 +86,6 @@ class BuildResult:
     @property
     def has_errors(self) -> bool:
         return any(f.counts_as_error for f in self.findings)
-
-
-# --- what a sheet is made from --------------------------------------------------------
-
-def loop_findings(findings: Sequence[Finding], project: Project) -> dict[str, list[Finding]]:
-    """Findings by loop id: a finding's own loop, else the loops of the tags it names."""
-    by_loop: dict[str, list[Finding]] = {loop_id: [] for loop_id in project.loops}
-    for finding in findings:
-        loops = {finding.loop} if finding.loop in by_loop else {
-            project.tags[t].loop for t in finding.tags if t in project.tags}
-        for loop_id in loops:
-            by_loop[loop_id].append(finding)
-    return by_loop
-
-
-def tag_record(project: Project, name: str) -> dict[str, Any]:
-    """A tag as JSON for the cache key and the PDF/A attachment (no spreadsheet row)."""
-    tag = project.tags.get(name)
-    if tag is None:
-        return {"tag": name, "missing": True}
-    data = tag.model_dump(mode="json", exclude={"row"})
-    return data
-
-
-def finding_record(finding: Finding) -> dict[str, Any]:
-    data = finding.as_json()
-    data.pop("location", None)
-    return data
-
-
-def loop_record(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any] = (),
-                state: dict[str, Any] | None = None) -> dict[str, Any]:
-    """What one sheet shows, as JSON: the loop, its tags and the tags linked to them by
-    Driven By (``pieces.linked_tags``), its findings and split groups. Hashed for the
-    cache; attached to the PDF/A sheet. ``state`` keeps the Driven By index between calls."""
-    from loopdocs.render.pieces import linked_tags
-
-    loop = project.loops[loop_id]
-    names = list(dict.fromkeys([*loop.tags, *linked_tags(project, loop_id, {} if state is None else state)]))
-    return {
-        "loop": loop.model_dump(mode="json"),
-        "tags": [tag_record(project, name) for name in names],
-        "findings": [finding_record(f) for f in findings],
-        "splits": [group.as_json() for group in splits],
-    }
 
 
 def frame_record(project: Project, settings: SheetSettings, loop_id: str, sheet_no: int, sheet_count: int, pdfa: bool) -> dict[str, Any]:
@@ -231,11 +186,11 @@ def build(
     finish. Raises ``InputError`` for unreadable input or an unknown loop id, and
     ``BuildError`` when rendering could not complete.
     """
-    from loopdocs.config import locate
+    from loopdocs.read.project_file import locate
     from loopdocs.draw.symbols import symbols_dir
-    from loopdocs.names import unique_filenames
-    from loopdocs.pipeline import check_project
-    from loopdocs.render.pieces import group_loop
+    from loopdocs.core.names import unique_filenames
+    from loopdocs.checks import check_project
+    from loopdocs.render.pieces import group_loop, loop_findings, loop_record
 
     started = time.perf_counter()
     out_dir = Path(out_dir)
