@@ -26,7 +26,7 @@ image line linearGradient marker mask metadata missing-glyph mpath path pattern 
 radialGradient rect script set stop style svg switch symbol text textPath title tref tspan use
 view vkern""".split())
 
-# Pens of the drawing set (DESIGN §6; ISO 128-20 line widths, from memory).
+# Pens of the drawing set (docs/design.md §8.4; ISO 128-20 line widths, from memory).
 PEN_WIDTHS = {0.25, 0.35, 0.5, 0.7}
 
 

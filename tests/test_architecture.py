@@ -151,3 +151,23 @@ def test_every_data_file_ships_in_the_wheel():
             if p.is_file() and p.suffix not in (".py", ".pyc") and "__pycache__" not in p.parts]
     assert data, "no data files found"
     assert [f for f in data if not any(fnmatch.fnmatch(f, g) for g in globs)] == []
+
+
+def test_design_references_name_existing_sections():
+    # the code cites its reasons as "docs/design.md §4.3": every cited section must exist
+    import re
+    import subprocess
+
+    root = PACKAGE.parent
+    design = (root / "docs" / "design.md").read_text(encoding="utf-8")
+    sections = set(re.findall(r"^#+ (§[\d.]+) ", design, flags=re.M))
+    files = subprocess.run(["git", "ls-files", "*.py", "*.md", "*.html", "*.css"], cwd=root,
+                           capture_output=True, text=True, check=True).stdout.split()
+    cited = {}
+    for name in files:
+        path = root / name
+        if path.is_file() and not path.is_symlink():
+            for ref in re.findall(r"docs/design\.md\s+(§\d+(?:\.\d+)*)", path.read_text(encoding="utf-8")):
+                cited.setdefault(ref, name)
+    assert len(cited) > 20
+    assert {ref: name for ref, name in cited.items() if ref not in sections} == {}

@@ -101,7 +101,7 @@ def test_example_package_metadata_and_drawing_list(example_build):
 
 def test_example_sheets_carry_tags_and_calibration_values(example_build):
     text = "\n".join(p.extract_text() for p in PdfReader(example_build.loop_files["L-2101"]).pages)
-    # LT-2101 0 to 3200 mm on 4-20 mA: 50 % = 1600 mm -> 12 mA (DESIGN §4: I = 4 + 16 p)
+    # LT-2101 0 to 3200 mm on 4-20 mA: 50 % = 1600 mm -> 12 mA (docs/design.md §6.1: I = 4 + 16 p)
     assert "LT-2101" in text and re.search(r"1600\s+12\.000", text)
     per_loop = PdfReader(example_build.loop_files["T-3105"])
     assert per_loop.metadata.title == "KCB-LS-T-3105 loop T-3105"
@@ -245,7 +245,7 @@ def test_build_command_exit_codes(tmp_path):
 def test_build_command_exits_1_and_marks_sheets_when_errors_remain(tmp_path):
     def break_fail_position(row):
         if row["tag"] == "FV-1201":
-            row["fail_position"] = "FO"  # ATO with FO: spring-return contradiction (DESIGN §3.3)
+            row["fail_position"] = "FO"  # ATO with FO: spring-return contradiction (docs/design.md §5.7)
         return row
 
     project = small_project(tmp_path / "p", ("F-1201",), edit=break_fail_position)

@@ -50,7 +50,7 @@ def at(table, percent, direction="up"):
 
 
 def test_five_points_rising_then_falling():
-    # DESIGN §4: 0, 25, 50, 75, 100 % of span, rising then falling (each read both ways).
+    # docs/design.md §7.2: 0, 25, 50, 75, 100 % of span, rising then falling (each read both ways).
     t = transmitter_table("TT-1", 0.0, 150.0, "degC", MA_4_20)
     assert [(p.percent, p.direction) for p in t.points] == rising_falling()
     assert [p.percent for p in t.points] == [0, 25, 50, 75, 100, 100, 75, 50, 25, 0]
@@ -100,7 +100,7 @@ def test_square_root_quarter_dp_is_half_flow_is_12_ma():
 
 
 def test_tolerance_is_accuracy_of_span_in_input_and_output_units():
-    # DESIGN §4: tolerance = Accuracy % of span. 0.25 % of 45 degC = 0.1125 degC; of 16 mA = 0.04 mA.
+    # docs/design.md §6.7: tolerance = Accuracy % of span. 0.25 % of 45 degC = 0.1125 degC; of 16 mA = 0.04 mA.
     t = transmitter_table("TT-2", -5.0, 40.0, "degC", MA_4_20, accuracy_pct=0.25)
     assert t.tolerance.input.value == pytest.approx(0.1125)
     assert t.tolerance.input.unit == "degC"
@@ -248,7 +248,7 @@ def test_sensor_out_of_range_is_an_error():
         transmitter_table("TT-9", 0.0, 500.0, "degC", MA_4_20, sensor="TC-T")
 
 
-# --- final elements: positioner, pneumatic and dcs splits (DESIGN §3.2) -------------------------
+# --- final elements: positioner, pneumatic and dcs splits (docs/design.md §7.1) -------------------------
 
 
 def test_half_range_positioner_stroke():
@@ -263,7 +263,7 @@ def test_half_range_positioner_stroke():
     # reverse positioner on an ATO valve behaves like ATC direct
     rev = stroke_table("FV-3", Settings("positioner", "ATO", "reverse", 4.0, 12.0, MA_4_20))
     assert [p.output.value for p in rev.points] == [p.output.value for p in atc.points]
-    # 1 % of travel when Accuracy % is blank (DESIGN §3.2 tolerance)
+    # 1 % of travel when Accuracy % is blank (docs/design.md §6.7 tolerance)
     assert ato.tolerance.output.value == pytest.approx(1.0) and "blank" in ato.tolerance.basis
     assert signal_for_travel(Settings("positioner", "ATO", "direct", 12.0, 20.0, MA_4_20), 25.0) == pytest.approx(14.0)
 
@@ -322,7 +322,7 @@ def json_point(inst: dict, percent: float, direction: str = "up") -> dict:
 
 
 def test_json_contract_of_design_5(example_json):
-    # DESIGN §5: {instruments: [{tag, kind, points: [{percent, input: {value, unit}, output: {value, unit}}], tolerance}]}
+    # docs/design.md §9.2: {instruments: [{tag, kind, points: [{percent, input: {value, unit}, output: {value, unit}}], tolerance}]}
     assert isinstance(example_json["instruments"], list) and example_json["instruments"]
     for inst in example_json["instruments"]:
         assert {"tag", "kind", "points", "tolerance"} <= set(inst)
@@ -431,7 +431,7 @@ def test_calibrate_text_and_bad_inputs(tmp_path):
 
 
 def test_check_stays_free_of_pint_and_openpyxl():
-    # DESIGN §7: heavy imports stay out of commands that do not need them; the calibrate and
+    # docs/design.md §10: heavy imports stay out of commands that do not need them; the calibrate and
     # verify commands are registered on the same app as check.
     import subprocess
     import sys

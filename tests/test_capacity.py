@@ -95,7 +95,7 @@ def test_names_and_bad_input():
 
 def test_capacity_proportional_boundaries():
     # Staged split on one stream: boundaries in proportion to cumulative Cv keep the
-    # loop gain even; Cv 10 and 30 split at 25 % (DESIGN §3.3; common practice).
+    # loop gain even; Cv 10 and 30 split at 25 % (docs/design.md §6.9; common practice).
     assert recommended_boundaries_pct([10, 30]) == pytest.approx([25.0])
     assert recommended_boundaries_pct([10, 20, 70]) == pytest.approx([10.0, 30.0])
     assert recommended_boundaries_pct([25, 25]) == pytest.approx([50.0])
@@ -105,7 +105,7 @@ def test_capacity_proportional_boundaries():
 
 
 def test_linear_gain_ratio_formula():
-    # DESIGN §3.3 linear gain g_i = Cv_i/(b_i - a_i). Half-range split of Cv 10 and 30:
+    # docs/design.md §6.9 linear gain g_i = Cv_i/(b_i - a_i). Half-range split of Cv 10 and 30:
     # g = 10/50 and 30/50, ratio 3, outside 0.5..2 (common practice limits).
     assert gain_ratios([10, 30], [(0, 50), (50, 100)]) == pytest.approx([3.0])
     assert gain_ratios([10, 30], [(0, 25), (25, 100)]) == pytest.approx([1.0])
@@ -116,7 +116,7 @@ def test_linear_gain_ratio_formula():
 @hyp_settings(max_examples=100, deadline=None)
 @given(st.lists(st.floats(min_value=0.5, max_value=500), min_size=2, max_size=4))
 def test_proportional_boundaries_give_even_gain_and_a_straight_line(cvs):
-    # Why the rule holds (DESIGN §3.3; common practice): with linear trims and
+    # Why the rule holds (docs/design.md §6.9; common practice): with linear trims and
     # boundaries at cumulative Cv, every gain ratio is 1 and the combined Cv rises in a
     # straight line from 0 to sum(Cv) over the CO.
     bounds = [0.0, *recommended_boundaries_pct(cvs), 100.0]
@@ -147,7 +147,7 @@ def test_gain_ratio_for_closing_staged_group():
 
 def test_combined_capacity_curve_for_a_range_chart():
     # Staged-opposed heat/cool split, linear Cv 20 each: total falls to 0 at 50 % CO and
-    # rises again (sum of Cv_i * x_i, DESIGN §6 range chart).
+    # rises again (sum of Cv_i * x_i, docs/design.md §8.2 range chart).
     curve = combined_capacity_curve([20, 20], [Intent(0, 50, 100, 0), Intent(50, 100, 0, 100)], step_pct=25)
     assert [co for co, _ in curve] == [0.0, 25.0, 50.0, 75.0, 100.0]
     assert [cv for _, cv in curve] == pytest.approx([20.0, 10.0, 0.0, 10.0, 20.0])
@@ -159,7 +159,7 @@ def test_combined_capacity_curve_for_a_range_chart():
 
 
 # --------------------------------------------------------------------------- capacity advice
-# The gain model (DESIGN §3.3): gain = dCv/dCO = Cv * df/dx * dx/dCO with the inherent
+# The gain model (docs/design.md §6.9): gain = dCv/dCO = Cv * df/dx * dx/dCO with the inherent
 # curve f (linear f = x; equal-percentage f = R^(x-1), IEC 60534-1 / ISA-75.11.01 inherent
 # characteristic, from memory); across a boundary the element before is full open, the
 # next just cracked. The score is the largest jump max(r, 1/r) over the boundaries.

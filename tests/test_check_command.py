@@ -1,4 +1,4 @@
-"""`loopdocs check`: structural findings located to the cell, the DESIGN §5 JSON contract,
+"""`loopdocs check`: structural findings located to the cell, the docs/design.md §9.1 JSON contract,
 exit codes 0/1/2, and the starter project of `loopdocs init`."""
 
 from __future__ import annotations
@@ -108,10 +108,10 @@ def test_csv_and_xlsx_give_the_same_records(tmp_path):
     assert dump(csv_project) == dump(xlsx_project)
 
 
-# --- JSON contract and exit codes (DESIGN §5) ---------------------------------------------
+# --- JSON contract and exit codes (docs/design.md §9.1) ---------------------------------------------
 
 def assert_design_json(data: dict) -> None:
-    """Structural check of the `check --format json` object against DESIGN §5."""
+    """Structural check of the `check --format json` object against docs/design.md §9.1."""
     assert set(data) >= {"findings", "splits", "summary"}
     for finding in data["findings"]:
         assert set(finding) >= {"rule", "severity", "loop", "tags", "message", "location"}

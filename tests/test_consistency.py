@@ -340,7 +340,7 @@ def test_common_unit_table_agrees_with_pint(written):
 
 
 def test_check_of_common_units_does_not_load_pint():
-    # DESIGN §7: heavy imports stay out of commands that do not need them
+    # docs/design.md §10: heavy imports stay out of commands that do not need them
     import subprocess
     import sys
 

@@ -128,7 +128,7 @@ def test_ports_used_exist_and_lines_join_symbols_only_at_ports(layouts):
 
 
 def test_text_sizes_and_pens(layouts):
-    # DESIGN §6: text at least 2.5 mm; pens 0.25, 0.35, 0.5, 0.7 mm.
+    # docs/design.md §8.4: text at least 2.5 mm; pens 0.25, 0.35, 0.5, 0.7 mm.
     for layout in layouts.values():
         root = parse_svg(svg_document(layout))
         for element in root.iter():
@@ -139,7 +139,7 @@ def test_text_sizes_and_pens(layouts):
 
 
 def test_bands_follow_location_and_platform(example, layouts):
-    # DESIGN §6: field, junction box, cabinet and control-system bands; empty bands dropped.
+    # docs/design.md §8.1: field, junction box, cabinet and control-system bands; empty bands dropped.
     assert [b.key for b in layouts["L-2105"].bands] == ["field", "local"]
     assert [b.key for b in layouts["T-3105"].bands] == ["field", "jb", "cabinet", "control"]
     where = {"TIC-3105": "control", "TT-3105": "field", "TV-3105A": "field", "TT-7401A": "cabinet",
@@ -211,7 +211,7 @@ def test_valves_show_fail_position_air_action_and_wiring(example, layouts):
 
 def test_positioners_on_one_output_are_drawn_in_series(layouts):
     # T-5310: both positioners land on cabinet terminals X3:51-52 and one AO (a
-    # positioner split shares one output, DESIGN §3.2). ISA-5.4 loop diagram, common
+    # positioner split shares one output, docs/design.md §4.3). ISA-5.4 loop diagram, common
     # practice: the loop current flows through each positioner in turn, so the drawing
     # shows output + to TV-5310A, a link from TV-5310A's - terminal (JB 6) to
     # TV-5310B's + terminal (JB 7), and TV-5310B back to output -; no tee, no junction dot.

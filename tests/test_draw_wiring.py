@@ -55,7 +55,7 @@ def _series_rows(n: int) -> list[dict]:
 @pytest.mark.parametrize("n", [2, 3])
 def test_positioners_on_one_output_are_wired_in_series(tmp_path, n):
     # Series loop: ISA-5.4 loop diagram content (terminals and polarity as wired) and
-    # common practice for a positioner split on one analog output (DESIGN §3.2, §3.3 loop
+    # common practice for a positioner split on one analog output (docs/design.md §4.3, §3.3 loop
     # load: the positioners are in series, their voltage drops add): the current leaves
     # output + (cabinet terminal 51), flows through each positioner in turn (in at its
     # first JB terminal, out at its second, a link to the next one's first) and returns
@@ -96,7 +96,7 @@ def test_positioners_on_one_output_are_wired_in_series(tmp_path, n):
 
 
 def test_a_dcs_split_with_its_own_outputs_is_not_drawn_in_series(tmp_path):
-    # A dcs split gives each valve its own output (DESIGN §3.2): separate circuits, so no
+    # A dcs split gives each valve its own output (docs/design.md §4.3): separate circuits, so no
     # series wiring (and no tee) is drawn (common practice).
     rows = _series_rows(2)
     for k, row in enumerate(rows[1:]):

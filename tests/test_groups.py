@@ -1,11 +1,11 @@
 """Split groups built from the index (``loopdocs.model.groups``): the example project's
-arrangements, defaults, settings loopdocs recommends, the DESIGN §5 JSON, and two
+arrangements, defaults, settings loopdocs recommends, the docs/design.md §9.1 JSON, and two
 properties (hypothesis): a group does not depend on row order, and the settings loopdocs
 recommends realise the intent for every method, air action and positioner action.
 
 Sources: 4-20 mA (IEC 60381-1) and 3-15 psig (IEC 60382, ANSI/ISA-50.00.01) spans; the
 half-range boundary at 12 mA (common practice); capacity-proportional split points
-(Cv 10 and 30 -> 25 %, from memory; DESIGN §3.3 gives the same example).
+(Cv 10 and 30 -> 25 %, from memory; docs/design.md §6.9 gives the same example).
 """
 
 from __future__ import annotations
@@ -121,7 +121,7 @@ def test_example_combined_capacity_is_a_straight_line(example):
 
 
 def _assert_design_json(report: dict) -> None:
-    """A structural check of the DESIGN §5 object (keys and types; no schema library)."""
+    """A structural check of the docs/design.md §9.1 object (keys and types; no schema library)."""
     number = (int, float)
     assert set(report) == {"findings", "splits", "summary"}
     for f in report["findings"]:

@@ -69,7 +69,7 @@ def test_example_charts_are_the_split_groups(charts, checked):
 
 
 def test_curves_are_the_realised_travel_of_the_settings(charts):
-    # DESIGN §3.2, evaluated by loopdocs.calc.travel.realised_travel_pct directly from
+    # docs/design.md §4.3, evaluated by loopdocs.calc.travel.realised_travel_pct directly from
     # each element's settings (and, for dcs, the control-system scaling).
     for controller, (group, chart) in charts.items():
         for element in group.elements:
@@ -93,7 +93,7 @@ def test_drawn_path_is_the_curve_in_plot_coordinates(charts):
 
 
 def test_hand_worked_positioner_split_point():
-    # DESIGN §3.2 worked by hand: CO 24 % on 4-20 mA gives I = 4 + 16 * 0.24 = 7.84 mA;
+    # docs/design.md §4.3 worked by hand: CO 24 % on 4-20 mA gives I = 4 + 16 * 0.24 = 7.84 mA;
     # a positioner set 4 to 11.68 mA has u = (7.84 - 4) / 7.68 = 0.5; ATC, direct:
     # travel = 1 - 0.5 = 50 %.
     s = Settings("positioner", "ATC", "direct", 4.0, 11.68, MA_4_20)
@@ -107,7 +107,7 @@ def test_chart_of_t3105_shows_the_point_worked_by_hand(charts):
 
 def test_second_axis_in_the_shared_signal(charts):
     # positioner and pneumatic splits share one signal: I = 4 + 16 CO (mA), P = 3 + 12 CO
-    # (psig) (DESIGN §3.2); a dcs split has one output per element, so no shared axis.
+    # (psig) (docs/design.md §4.3); a dcs split has one output per element, so no shared axis.
     assert charts["TIC-3105"][1].signal_axis == ("mA", 4.0, 20.0)
     assert charts["PIC-4120"][1].signal_axis == ("psig", 3.0, 15.0)
     assert charts["PIC-6201"][1].signal_axis is None
@@ -165,14 +165,14 @@ def test_combined_capacity_curve(charts):
 
 
 def test_capacity_split_is_reported(charts):
-    # Cv 10 and 30 staged on one stream: boundary in proportion to Cv at 25 % (DESIGN §3.3)
+    # Cv 10 and 30 staged on one stream: boundary in proportion to Cv at 25 % (docs/design.md §6.9)
     sub = next(t.text for t in charts["LIC-2101"][1].texts if t.role == "subtitle")
     assert "25 % CO (as set)" in sub and "1.00" in sub
 
 
 def test_findings_on_the_group_are_marked(tmp_path):
     # TV-A should stroke over CO 0-48 % (needs 4 to 11.68 mA) but is set 4 to 14 mA:
-    # split.settings error (DESIGN §3.3), marked on the chart beside TV-A's label.
+    # split.settings error (docs/design.md §5.6), marked on the chart beside TV-A's label.
     rows = [
         {"tag": "TIC-800", "location": "control room", "platform": "dcs", "signal": "4-20 mA",
          "control_action": "reverse", "io_address": "AO-1"},
@@ -272,7 +272,7 @@ def test_close_boundaries_keep_their_own_labels(tmp_path, method, bounds):
     assert_boundaries_readable(group, chart)
     assert {"33 %", "35 %"} <= {t.text for t in chart.texts if t.role == "boundary"}
     if method == "positioner":
-        # 4 + 16 * 0.33 = 9.28 mA and 4 + 16 * 0.35 = 9.6 mA (DESIGN §3.2), both shown
+        # 4 + 16 * 0.33 = 9.28 mA and 4 + 16 * 0.35 = 9.6 mA (docs/design.md §4.3), both shown
         assert {"9.28", "9.60"} <= {t.text for t in chart.texts if t.role == "tick-signal-boundary"}
 
 
@@ -316,7 +316,7 @@ def test_natural_size_and_svg(charts, checked):
         root = check_svg11(svg)
         for element in root.iter():
             if element.get("font-size"):
-                assert float(element.get("font-size")) >= 2.5  # DESIGN §6
+                assert float(element.get("font-size")) >= 2.5  # docs/design.md §8.4
             if element.get("stroke-width"):
                 assert float(element.get("stroke-width")) in PEN_WIDTHS
         assert svg == range_chart_svg(group, checked.findings)  # deterministic bytes

@@ -82,7 +82,7 @@ def one_line_error(call, *args, **kwargs) -> str:
     with pytest.raises(InputError) as caught:
         call(*args, **kwargs)
     message = str(caught.value)
-    assert message and "\n" not in message  # the CLI prints it as one line (DESIGN.md §5, exit 2)
+    assert message and "\n" not in message  # the CLI prints it as one line (docs/design.md §9.4, exit 2)
     return message
 
 
@@ -180,7 +180,7 @@ def test_no_header_names_file_sheet_and_headers_seen(tmp_path: Path):
 
 
 def test_header_below_row_20_is_not_found(tmp_path: Path):
-    # DESIGN.md §2: the header is looked for in the first 20 rows only
+    # docs/design.md §2.1: the header is looked for in the first 20 rows only
     rows = [[f"title line {n}"] for n in range(20)] + [HEADER, DATA[0]]
     assert "first 20 rows" in one_line_error(read_index, write_xlsx(tmp_path / "a.xlsx", rows))
 

@@ -74,13 +74,13 @@ def test_sheet_shows_title_block_tags_and_calibration_values(t3105_pdf, example)
     for expected in ("KCB-LS-T-3105", "6 of 11", tb.project.split(" - ")[0], tb.client, "TT-3105", "TV-3105A", "TV-3105B"):
         assert expected in text, expected
     # TT-3105, -5 to 40 degC on 4-20 mA: 25 % of span = 6.25 degC -> 4 + 16 * 0.25 = 8 mA
-    # (DESIGN §4, I = 4 + 16 p); Pt100 at 40 degC = 115.54 ohm (IEC 60751 table, from memory).
+    # (docs/design.md §6.1, I = 4 + 16 p); Pt100 at 40 degC = 115.54 ohm (IEC 60751 table, from memory).
     assert re.search(r"6\.25\s+102\.440\s+8\.000", text)
     assert "115.541" in text
     # TV-3105A: ATC, direct positioner, input 4 to 11.68 mA: 50 % travel at u = 0.5,
-    # I = 4 + 0.5 * 7.68 = 7.840 mA (DESIGN §3.2).
+    # I = 4 + 0.5 * 7.68 = 7.840 mA (docs/design.md §4.3).
     assert re.search(r"7\.840\s+50\.0", text)
-    # the cautions (DESIGN §6, README)
+    # the cautions (docs/design.md §8.3, README)
     assert "Isolate and verify" in text and "confirmed against the issued design" in text
 
 
@@ -90,12 +90,12 @@ def test_calibration_tables_print_each_point_once_and_merge_loop_checks(example)
     tables = [t for t in calibration_set(example.project).tables if t.loop == "T-3105"]
     shown = display_tables(tables)
     tt = next(t for t in shown if t.tag == "TT-3105")
-    # five points rising then falling (DESIGN §4) are ten readings but five distinct rows
+    # five points rising then falling (docs/design.md §7.2) are ten readings but five distinct rows
     source = next(t for t in tables if t.tag == "TT-3105")
     assert len(source.points) == 10 and len(tt.rows) == 5 == len(distinct_points(source.points))
     check = next(t for t in shown if t.title == "loop check")
     assert check.tag == "TV-3105A, TV-3105B"
-    # one positioner-split output (DESIGN §3.2: I = 4 + 16 CO) feeds both: one signal column
+    # one positioner-split output (docs/design.md §4.3: I = 4 + 16 CO) feeds both: one signal column
     assert check.heads[:2] == ("% CO", "Signal mA")
     row_50 = next(r for r in check.rows if r[0] == "50.00")  # CO to 0.01 %: split edges such as 8.33 % are exact
     assert row_50[1] == "12.000"
@@ -259,7 +259,7 @@ def test_lettering_is_at_least_1_8_mm_and_body_text_2_5_mm(t3105_pdf):
 
 
 def test_sheet_uses_few_line_widths(t3105_pdf):
-    # ISO 128-2 (from memory): a small set of widths; DESIGN §6: about 0.25, 0.35, 0.5, 0.7 mm.
+    # ISO 128-2 (from memory): a small set of widths; docs/design.md §8.4: about 0.25, 0.35, 0.5, 0.7 mm.
     _, widths = page_marks(t3105_pdf)
     assert {round(w, 2) for w in widths} <= {0.25, 0.35, 0.5, 0.7}, sorted({round(w, 3) for w in widths})
 

@@ -1,4 +1,4 @@
-"""``valve.signal-loss`` judged from the signal the valve sees (DESIGN §3.3).
+"""``valve.signal-loss`` judged from the signal the valve sees (docs/design.md §4.6).
 
 Facts of the trade the checks rest on:
 - a two-wire, loop-powered electronic positioner (4-20 mA) takes its power from the loop
@@ -82,7 +82,7 @@ def test_positioner_split_behind_an_i_to_p_sees_air(index_files):
 
 def test_signal_not_known_is_not_verified_rather_than_guessed(index_files):
     # Signal and Input Units blank: where a lost signal takes a reverse positioner's valve
-    # cannot be told (DESIGN §2: a check never guesses silently).
+    # cannot be told (docs/design.md §2.3: a check never guesses silently).
     rows = [{"tag": "XV-502", "air_action": "ATO", "fail_position": "FC", "positioner_action": "reverse"}]
     result = index_files.check(rows)
     assert [f for f in result.findings if f.rule == "valve.signal-loss"] == []

@@ -91,7 +91,7 @@ def test_fraction_and_signal_are_inverse(fraction, span):
 
 
 def test_fraction_of_range_normal_negative_and_reverse():
-    # Linear transfer p = (x - LRV)/(URV - LRV) (DESIGN §4; common practice).
+    # Linear transfer p = (x - LRV)/(URV - LRV) (docs/design.md §6.2; common practice).
     assert fraction_of_range(75.0, 0.0, 150.0) == pytest.approx(0.5)
     # Negative LRV: -50..150 degC, 0 degC is a quarter of the 200 K span.
     assert fraction_of_range(0.0, -50.0, 150.0) == pytest.approx(0.25)
@@ -137,7 +137,7 @@ def test_namur_ne43_levels():
 
 
 def test_clamp01():
-    # Fractions are limited to [0, 1] (DESIGN §3.2).
+    # Fractions are limited to [0, 1] (docs/design.md §6.1).
     assert [clamp01(v) for v in (-3.0, 0.0, 0.3, 1.0, 7.0)] == [0.0, 0.0, 0.3, 1.0, 1.0]
 
 

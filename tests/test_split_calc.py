@@ -29,7 +29,7 @@ POSITIONERS = ("direct", "reverse")
 
 
 def test_intended_travel_is_linear_inside_and_held_outside():
-    # DESIGN §3: linear between (a, t_a) and (b, t_b), held at the end values outside.
+    # docs/design.md §4.1: linear between (a, t_a) and (b, t_b), held at the end values outside.
     intent = Intent(20, 60, 100, 0)
     assert intended_travel_pct(intent, 0) == 100.0
     assert intended_travel_pct(intent, 40) == pytest.approx(50.0)
@@ -42,7 +42,7 @@ def test_intent_needs_rising_co():
 
 
 def test_realised_travel_follows_design_formula():
-    # DESIGN §3.2, by hand: CO 75 % -> I = 4 + 16*0.75 = 16 mA; range 12..20 -> u = 0.5.
+    # docs/design.md §4.3, by hand: CO 75 % -> I = 4 + 16*0.75 = 16 mA; range 12..20 -> u = 0.5.
     assert realised_travel_pct(Settings("positioner", "ATO", "direct", 12, 20, MA_4_20), 75) == pytest.approx(50)
     # Below the range u clamps at 0: ATO direct shut, ATC direct open.
     assert realised_travel_pct(Settings("positioner", "ATO", "direct", 12, 20, MA_4_20), 25) == 0.0
@@ -94,14 +94,14 @@ def test_atc_needs_reversed_calibration_or_reverse_positioner():
 
 
 def test_partial_split_point_from_design_example():
-    # DESIGN §2 example row: CO 0-48 %, travel 100 -> 0, input 4 to 11.68 mA;
+    # docs/design.md §4.3 example row: CO 0-48 %, travel 100 -> 0, input 4 to 11.68 mA;
     # 4 + 16*0.48 = 11.68 mA (arithmetic on the IEC 60381-1 span).
     low, high = required_input_range(Intent(0, 48, 100, 0), "positioner", "ATC", "direct", MA_4_20)
     assert (low, high) == pytest.approx((4.0, 11.68))
 
 
 def test_dcs_split_scaling_and_full_span_positioner():
-    # DESIGN §3.2: the positioner takes the full 4-20 mA, the control system scales.
+    # docs/design.md §4.5: the positioner takes the full 4-20 mA, the control system scales.
     intent = Intent(50, 100, 0, 100)
     assert required_input_range(intent, "dcs", "ATO", "direct", MA_4_20) == (4.0, 20.0)
     assert required_dcs_scaling(intent, "ATO", "direct") == DcsScaling(50, 100)
@@ -122,7 +122,7 @@ def test_no_travel_change_is_a_clear_error():
 
 
 def test_max_travel_error_finds_a_wrong_split_point():
-    # Hand calculation with DESIGN §3.2: intent CO 0-48 %, positioner set 4-12 mA
+    # Hand calculation with docs/design.md §4.4: intent CO 0-48 %, positioner set 4-12 mA
     # (CO 0-50 %). At CO 48 % intent is 100 %, realised 48/50 = 96 %: error 4 %.
     err, co = max_travel_error(Intent(0, 48, 0, 100), Settings("positioner", "ATO", "direct", 4, 12, MA_4_20))
     assert err == pytest.approx(4.0)
@@ -140,7 +140,7 @@ def test_max_travel_error_finds_wrong_air_action():
 
 def test_partial_travel_held_outside_segment_cannot_be_realised():
     # A clamped input range keeps moving until u reaches 0 or 1, so "hold 20 % below
-    # CO 50 %" is impossible: the cross-check reports it (DESIGN §3.2 formula).
+    # CO 50 %" is impossible: the cross-check reports it (docs/design.md §4.4 formula).
     intent = Intent(50, 100, 20, 80)
     low, high = required_input_range(intent, "positioner", "ATO", "direct", MA_4_20)
     err, co = max_travel_error(intent, Settings("positioner", "ATO", "direct", low, high, MA_4_20))
@@ -149,7 +149,7 @@ def test_partial_travel_held_outside_segment_cannot_be_realised():
 
 
 def test_double_split_dcs_is_detected():
-    # DESIGN §3.3: a dcs split whose positioner is not set to the full span splits twice.
+    # docs/design.md §5.6: a dcs split whose positioner is not set to the full span splits twice.
     intent = Intent(50, 100, 0, 100)
     scaling = required_dcs_scaling(intent, "ATO", "direct")
     good = Settings("dcs", "ATO", "direct", 4, 20, MA_4_20)
@@ -184,7 +184,7 @@ CASES = [("positioner", MA_4_20), ("pneumatic", PSIG_3_15), ("pneumatic", KPA_20
     st.sampled_from(POSITIONERS),
 )
 def test_required_settings_realise_the_intent(intent, case, air, positioner):
-    # Property of DESIGN §3.2: the computed settings give the intended travel within
+    # Property of docs/design.md §4.4: the computed settings give the intended travel within
     # 1 % of travel at every CO (the design tolerance); in fact to rounding error.
     method, span = case
     low, high = required_input_range(intent, method, air, positioner, span)
@@ -208,7 +208,7 @@ def test_spring_fail_position():
 
 
 def test_position_on_signal_loss():
-    # DESIGN §3.3: input below 4 mA, u = 0. A direct positioner follows the spring
+    # docs/design.md §4.6: input below 4 mA, u = 0. A direct positioner follows the spring
     # position; a reverse-acting one drives the valve the other way (common practice).
     assert travel_on_signal_loss_pct("ATO", "direct") == spring_fail_travel_pct("ATO")
     assert travel_on_signal_loss_pct("ATC", "direct") == spring_fail_travel_pct("ATC")
@@ -224,14 +224,14 @@ def test_position_on_signal_loss():
 
 
 def test_mode_opposed():
-    # DESIGN §3.1 table: opposed directions over a shared range.
+    # docs/design.md §4.2 table: opposed directions over a shared range.
     arr = classify([Intent(0, 100, 100, 0), Intent(0, 100, 0, 100)])
     assert arr.mode == "opposed"
     assert arr.pairs[0].direction == "opposed" and arr.pairs[0].ranges == "shared"
 
 
 def test_mode_staged():
-    # DESIGN §3.1 table: same direction, consecutive ranges (small valve first).
+    # docs/design.md §4.2 table: same direction, consecutive ranges (small valve first).
     arr = classify([Intent(40, 100, 0, 100), Intent(0, 40, 0, 100)])
     assert arr.mode == "staged"
     assert arr.order == (1, 0)
@@ -239,18 +239,18 @@ def test_mode_staged():
 
 
 def test_mode_staged_opposed_heat_cool():
-    # DESIGN §3.1 table: one closes over the low half, the other opens over the high half.
+    # docs/design.md §4.2 table: one closes over the low half, the other opens over the high half.
     arr = classify([Intent(0, 50, 100, 0), Intent(50, 100, 0, 100)])
     assert arr.mode == "staged-opposed"
 
 
 def test_mode_parallel():
-    # DESIGN §3.1 table: duplicated elements, same direction, shared range (ends within 5 %).
+    # docs/design.md §4.2 table: duplicated elements, same direction, shared range (ends within 5 %).
     assert classify([Intent(0, 100, 0, 100), Intent(2, 97, 0, 100)]).mode == "parallel"
 
 
 def test_mode_mixed():
-    # DESIGN §3.1: anything else is mixed (here staged pair, then a shared opposed pair).
+    # docs/design.md §4.2: anything else is mixed (here staged pair, then a shared opposed pair).
     arr = classify([Intent(0, 50, 0, 100), Intent(50, 100, 0, 100), Intent(48, 100, 100, 0)])
     assert arr.mode == "mixed"
     # An element that never moves makes the group mixed as well.
@@ -267,7 +267,7 @@ def test_single_element_group():
 
 
 def test_gap_and_overlap():
-    # Gap between staged elements (dead zone) and overlap (both move), DESIGN §3.3.
+    # Gap between staged elements (dead zone) and overlap (both move), docs/design.md §5.6.
     gap = classify([Intent(0, 45, 100, 0), Intent(55, 100, 0, 100)]).pairs[0]
     assert (gap.gap_pct, gap.overlap_pct) == (10.0, 0.0)
     over = classify([Intent(0, 60, 0, 100), Intent(40, 100, 0, 100)]).pairs[0]
@@ -298,7 +298,7 @@ def test_classify_does_not_depend_on_input_order(intents, rnd):
 
 
 def test_uncovered_co():
-    # DESIGN §3.3 CO coverage: the parts of 0..100 % where nothing moves.
+    # docs/design.md §4.2 CO coverage: the parts of 0..100 % where nothing moves.
     assert uncovered_co([Intent(0, 40, 0, 100), Intent(45, 100, 0, 100)]) == [(40.0, 45.0)]
     assert uncovered_co([Intent(0, 50, 100, 0), Intent(50, 100, 0, 100)]) == []
     assert uncovered_co([Intent(10, 30, 0, 100), Intent(20, 60, 0, 100)]) == [(0.0, 10.0), (60.0, 100.0)]

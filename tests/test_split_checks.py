@@ -1,4 +1,4 @@
-"""Split-range, valve and loop-load rules (DESIGN §3.3): for each rule a spreadsheet made
+"""Split-range, valve and loop-load rules (docs/design.md §5.6): for each rule a spreadsheet made
 to fire it and a clean one that does not, checked with ``loopdocs.checks.check_project``;
 each finding's rule, severity, tags and cell are asserted.
 
@@ -10,7 +10,7 @@ Reference values, with their sources:
   common practice;
 - ATO actuators fail closed, ATC fail open (spring return): a fact of the trade;
 - capacity-proportional split points, boundary b = Cv1/(Cv1+Cv2) (Cv 10 and 30 -> 25 %):
-  from memory (DESIGN §3.3 uses the same example);
+  from memory (docs/design.md §6.9 uses the same example);
 - equal-percentage inherent characteristic f = R^(x-1) (IEC 60534-1), so the gain ratio
   across a capacity-proportional boundary of two equal-percentage valves is 1/R;
 - a transmitter loop is sized for 22 mA (NAMUR NE 43 puts failure at >= 21 mA; 22 mA
@@ -315,7 +315,7 @@ def test_dcs_split_on_full_span_positioners_is_clean(index_files):
 
 
 def test_half_range_boundary_for_unequal_valves(index_files):
-    # Linear trims Cv 10 and 30 at 50 %: gains 10/50 and 30/50, ratio 3 (DESIGN §3.3
+    # Linear trims Cv 10 and 30 at 50 %: gains 10/50 and 30/50, ratio 3 (docs/design.md §6.9
     # linear formula); proportional boundary 10/(10+30) = 25 % (from memory).
     result = index_files.check(staged(boundary=50))
     f = only(result, "split.capacity")
@@ -559,6 +559,6 @@ def test_relay_without_a_controller(index_files):
     rows = [{"tag": "PY-201", "signal": "3-15 psig"},
             single(tag="PV-201", driver="PY-201", signal="3-15 psig", input_low=3, input_high=15, input_units="psig")]
     result = index_files.check(rows)
-    assert of(result, "split.driver") == []  # a relay may drive valves (DESIGN §3.3)
+    assert of(result, "split.driver") == []  # a relay may drive valves (docs/design.md §5.6)
     f = only(result, "check.not-verified")
     assert (f.tags, index_files.where(f)) == (("PY-201", "PV-201"), index_files.cell("driven_by", 0))

@@ -2,7 +2,7 @@
 still a group: the rest is classified, the invalid element is shown as invalid in the
 summary and the JSON, and the range chart does not draw it as a valid segment.
 
-Source of the arrangement names: DESIGN §3.1 (staged, staged-opposed, ...); the CO
+Source of the arrangement names: docs/design.md §4.2 (staged, staged-opposed, ...); the CO
 segment of an element runs from CO Start up to CO End, an element that closes as CO
 rises keeps CO Start < CO End and has Travel at Start above Travel at End (common
 practice of split-range tables).

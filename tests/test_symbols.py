@@ -128,7 +128,7 @@ def test_ports_are_invisible_and_not_in_the_embedded_markup(name: str) -> None:
 
 @pytest.mark.parametrize("name", SYMBOL_NAMES)
 def test_pens_black_strokes_white_or_no_fill(name: str) -> None:
-    # Pen widths: DESIGN.md 6 (from memory, ISO 128 series line widths 0.25/0.35/0.5/0.7 mm).
+    # Pen widths: docs/design.md §8.4 (from memory, ISO 128 series line widths 0.25/0.35/0.5/0.7 mm).
     drawn = list(_drawn(lib.load_symbol(name)))
     assert drawn, name
     for tag, attrs, _, _ in drawn:
@@ -233,7 +233,7 @@ def test_location_lines_run_across_the_middle_between_letters_and_number(display
 
 @pytest.mark.parametrize("display", lib.BUBBLE_DISPLAYS)
 def test_tag_text_areas_hold_2_5_mm_text(display: str) -> None:
-    # DESIGN.md 6 (from memory, ISO 3098): printed text at least 2.5 mm high; capital
+    # docs/design.md §8.4 (from memory, ISO 3098): printed text at least 2.5 mm high; capital
     # height of a 2.5 mm font is about 0.7 x 2.5 = 1.75 mm (ISO 3098, from memory).
     symbol = lib.load_symbol(f"bubble-{display}")
     for area in ("tag-func", "tag-loop"):
@@ -309,7 +309,7 @@ def test_terminal_units_stack_at_their_height(name: str) -> None:
         0, 0, unit.width_mm, unit.height_mm)
     assert unit.ports["wire-left"] == (0, unit.height_mm / 2)
     assert unit.ports["wire-right"] == (unit.width_mm, unit.height_mm / 2)
-    assert unit.text_areas["label"][3] >= 0.7 * 2.5  # 2.5 mm text, DESIGN.md 6
+    assert unit.text_areas["label"][3] >= 0.7 * 2.5  # 2.5 mm text, docs/design.md §8.4
 
 
 # --- line styles ----------------------------------------------------------------------

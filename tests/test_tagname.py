@@ -55,7 +55,7 @@ def test_isa_letters(tag, variable, functions, loop_id, kind):
 @pytest.mark.parametrize(
     "tag, area, number, suffix",
     [
-        ("41-TIC-3105", "41", "3105", ""),   # DESIGN §2 examples: area prefix
+        ("41-TIC-3105", "41", "3105", ""),   # docs/design.md §2.4 examples: area prefix
         ("TIC3105", "", "3105", ""),         # no separator
         ("TV-3105A", "", "3105", "A"),       # suffix letter
         ("U1-TT-100", "U1", "100", ""),      # alphanumeric area

@@ -209,7 +209,7 @@ def test_table_end_value_reads_as_end_temperature():
 
 @pytest.mark.parametrize("spelling", ["K", "k", "TC-K", " tc-k "])
 def test_type_spellings(spelling):
-    # the index Sensor column uses TC-K (DESIGN.md section 2)
+    # the index Sensor column uses TC-K (docs/design.md §2.2)
     assert emf_mv(spelling, 100.0) == emf_mv("K", 100.0)
 
 

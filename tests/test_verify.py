@@ -1,6 +1,6 @@
 """Round trip: write a calibration workbook, fill it in as a technician would (openpyxl), verify.
 
-Error in % of span = (reading - expected) / output span * 100 (DESIGN §4 tolerance is
+Error in % of span = (reading - expected) / output span * 100 (docs/design.md §6.10 tolerance is
 Accuracy % of span); hysteresis = |rising - falling| / span * 100 at the same point
 (common practice definitions).
 """
@@ -196,7 +196,7 @@ def test_example_valves_round_trip(tmp_path):
     path = tmp_path / "cal.xlsx"
     assert runner.invoke(app, ["calibrate", str(EXAMPLE), "--out", str(path)]).exit_code == 0
     f = Filler(path)
-    f.fill_all("TV-3105A", +0.5)  # stroke 0.5 % travel off, tolerance 1 % of travel (DESIGN §3.2)
+    f.fill_all("TV-3105A", +0.5)  # stroke 0.5 % travel off, tolerance 1 % of travel (docs/design.md §6.7)
     for i in range(1, 23):
         ref = f"TV-3105B/L{i:02d}"
         f.set(ref, "As-Found", f.expected(ref))

@@ -1,4 +1,4 @@
-"""Vocabulary spellings of the index columns (DESIGN §2)."""
+"""Vocabulary spellings of the index columns (docs/design.md §2.2)."""
 
 import pytest
 

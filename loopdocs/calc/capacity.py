@@ -124,7 +124,7 @@ def recommended_boundaries_pct(cvs: Sequence[float]) -> list[float]:
 
     ``b_k = 100 * sum(Cv_1..Cv_k) / sum(Cv)`` for k = 1..n-1 (the interior boundaries,
     elements in the order they open). This keeps the gain equal across boundaries for
-    linear trims (DESIGN §3.3; common practice).
+    linear trims (docs/design.md §6.9; common practice).
 
     >>> recommended_boundaries_pct([10, 30])
     [25.0]
@@ -180,7 +180,7 @@ def gain_ratios(
     the boundary is taken at its CO end, the one after at its CO start. Linear:
     ``g_i = Cv_i / (b_i - a_i)``; equal-percentage: ``g = Cv * ln(R) * R^(x - 1) * dx/dCO``
     from the slope of the inherent curve (IEC 60534-1). A ratio outside 0.5 to 2 is worth
-    flagging (DESIGN §3.3; common practice).
+    flagging (docs/design.md §6.9; common practice).
 
     >>> [round(r, 9) for r in gain_ratios([10, 30], [(0, 25), (25, 100)])]
     [1.0]
@@ -427,7 +427,7 @@ def capacity_advice(
     min_segment_pct: float = MIN_SEGMENT_PCT,
 ) -> CapacityAdvice:
     """Score the boundaries as set and the best ones by one model, and recommend only
-    boundaries that score no worse (DESIGN §3.3).
+    boundaries that score no worse (docs/design.md §6.9).
 
     The settings are scored with :func:`gain_ratios` on their intents (gaps, overlaps,
     partial travel as they are); candidates with :func:`gain_ratios` on

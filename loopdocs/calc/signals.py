@@ -114,7 +114,7 @@ def fraction_of_range(x: float, lrv: float, urv: float) -> float:
     """Fraction of a calibrated range: ``p = (x - LRV) / (URV - LRV)``.
 
     Works for a reverse range (LRV > URV) and a negative LRV; not clamped.
-    Raises ValueError when LRV equals URV. Source: DESIGN §4 (linear transfer).
+    Raises ValueError when LRV equals URV. Source: docs/design.md §6.2 (linear transfer).
 
     >>> fraction_of_range(75.0, 0.0, 150.0)
     0.5

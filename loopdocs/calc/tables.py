@@ -1,4 +1,4 @@
-"""Calibration tables: the values to apply and to expect at each test point (DESIGN §4).
+"""Calibration tables: the values to apply and to expect at each test point (docs/design.md §7).
 
 Pure functions on numbers; the tables of a whole project are built from its records in
 ``loopdocs.calibration.project_tables``. Percentages run 0 to 100.
@@ -56,7 +56,7 @@ from loopdocs.calc.travel import (
 )
 from loopdocs.calc.thermocouple import emf_to_simulate_mv
 
-#: Test points, % of span (DESIGN §4).
+#: Test points, % of span (docs/design.md §7.2).
 FIVE_POINTS_PCT = (0.0, 25.0, 50.0, 75.0, 100.0)
 #: Test points of a square-root transmitter ranged in DP, % of DP span: the five points
 #: and 1 % DP (= 10 % flow), where root extraction matters most (common practice).
@@ -195,7 +195,7 @@ class CalibrationTable:
         return replace(self, loop=loop or self.loop, service=service or self.service, notes=self.notes + tuple(notes))
 
     def as_json(self) -> dict[str, Any]:
-        """DESIGN §5: ``{tag, kind, points: [{percent, input, output}], tolerance}`` plus extra keys."""
+        """docs/design.md §9.2: ``{tag, kind, points: [{percent, input, output}], tolerance}`` plus extra keys."""
         data: dict[str, Any] = {
             "tag": self.tag,
             "kind": self.kind,
@@ -641,8 +641,8 @@ def _positioner_view(settings: Settings) -> Settings:
 def travel_at_signal_pct(settings: Settings, signal: float) -> float:
     """Travel, %, for a signal at the positioner input, in ``settings.span.unit``.
 
-    The element alone, whatever the split method: ``u``, ``s`` and travel of DESIGN
-    §3.2 (``split.realised_travel_pct`` with the signal as its CO).
+    The element alone, whatever the split method: ``u``, ``s`` and travel of docs/design.md
+    §4.3 (``split.realised_travel_pct`` with the signal as its CO).
 
     >>> travel_at_signal_pct(Settings("positioner", "ATC", "direct", 4.0, 11.68, MA_4_20), 7.84)
     50.0
@@ -687,7 +687,7 @@ def stroke_table(
     For ``positioner`` and ``pneumatic`` splits the input range is the positioner's
     (or the actuator spring range); for ``dcs`` splits the positioner takes the full
     span and ``dcs_scaling`` (the control-system output scaling) is carried with the
-    table. Tolerance: Accuracy % of travel, or 1 % of travel (DESIGN §3.2) when blank.
+    table. Tolerance: Accuracy % of travel, or 1 % of travel (docs/design.md §6.7) when blank.
 
     >>> t = stroke_table("TV-1", Settings("positioner", "ATC", "direct", 4.0, 11.68, MA_4_20))
     >>> [(p.input.value, p.output.value) for p in t.points[:3]]
@@ -737,7 +737,7 @@ def loop_check_points_pct(edges_pct: Sequence[float] = (), step_pct: float = LOO
     """CO points, %, of a split loop check: every ``step_pct`` of CO from 0 to 100, plus
     every edge given (each element's CO start and end: the boundaries, and the edges of
     every gap and overlap, where a dead band or a double action shows), those within 0 to
-    100 %, deduplicated (to 1e-6 % CO) and sorted (DESIGN §4).
+    100 %, deduplicated (to 1e-6 % CO) and sorted (docs/design.md §7.2).
 
     >>> loop_check_points_pct([0, 48, 52, 100], 25)
     [0.0, 25.0, 48.0, 50.0, 52.0, 75.0, 100.0]

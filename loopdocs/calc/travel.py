@@ -1,7 +1,7 @@
 """Split range: intended and realised valve travel against controller output (CO).
 
-Pure functions on plain numbers and strings (DESIGN §3). Percentages run 0 to 100,
-fractions 0 to 1. Settings to travel (DESIGN §3.2)::
+Pure functions on plain numbers and strings (docs/design.md §4). Percentages run 0 to 100,
+fractions 0 to 1. Settings to travel (docs/design.md §4.3)::
 
     I = low + (high - low) * CO                 shared output (positioner, pneumatic)
     u = clamp01((I - Ilo) / (Ihi - Ilo))        Ilo > Ihi is a reversed calibration
@@ -24,9 +24,9 @@ METHODS = ("positioner", "pneumatic", "dcs")
 AIR_ACTIONS = ("ATO", "ATC")
 POSITIONER_ACTIONS = ("direct", "reverse")
 
-#: Neighbouring CO starts and ends within this many % CO count as a shared range (DESIGN §3.1).
+#: Neighbouring CO starts and ends within this many % CO count as a shared range (docs/design.md §4.2).
 SHARED_TOLERANCE_PCT = 5.0
-#: Realised travel must match intent within this many % travel (DESIGN §3.2).
+#: Realised travel must match intent within this many % travel (docs/design.md §4.4).
 TRAVEL_TOLERANCE_PCT = 1.0
 
 _EPS = 1e-9
@@ -65,7 +65,7 @@ def _travel_is_u(air_action: str, positioner_action: str) -> bool:
 class Intent:
     """What one element should do: travel ``t_a`` at CO ``a``, ``t_b`` at CO ``b``.
 
-    Linear between, held at the end values outside ``[a, b]`` (DESIGN §3). All in %.
+    Linear between, held at the end values outside ``[a, b]`` (docs/design.md §4.1). All in %.
     Values are stored as floats. Raises ValueError unless ``co_start_pct < co_end_pct``.
     """
 
@@ -167,7 +167,7 @@ DCS_UNSCALED = DcsScaling(0.0, 100.0)
 
 @dataclass(frozen=True)
 class Settings:
-    """How one element is set up (DESIGN §3.2).
+    """How one element is set up (docs/design.md §4.3).
 
     ``input_low``/``input_high`` are the positioner input range (or actuator spring
     range) in ``span.unit``; ``input_low > input_high`` is a reversed calibration.
@@ -212,7 +212,7 @@ def _output_fraction(settings: Settings, co_pct: float, dcs_scaling: DcsScaling 
 
 
 def realised_travel_pct(settings: Settings, co_pct: float, dcs_scaling: DcsScaling | None = None) -> float:
-    """Travel, %, that the settings give at a CO, % (DESIGN §3.2).
+    """Travel, %, that the settings give at a CO, % (docs/design.md §4.3).
 
     Shared output ``I = low + width * CO``; for ``dcs`` the output is first scaled by
     ``dcs_scaling`` (None means unscaled, output = CO). Then ``u``, ``s``, travel as in
@@ -332,7 +332,7 @@ def max_travel_error(
     Both curves are piecewise linear, so the maximum is at a breakpoint (segment ends,
     clamp points of the input range and of the DCS scaling, CO 0 and 100); those are
     evaluated exactly, plus a grid of ``grid_step_pct`` as a safeguard. Ties go to the
-    lowest CO. Compare with :data:`TRAVEL_TOLERANCE_PCT` (1 %, DESIGN §3.2).
+    lowest CO. Compare with :data:`TRAVEL_TOLERANCE_PCT` (1 %, docs/design.md §4.4).
 
     >>> intent = Intent(0, 48, 0, 100)
     >>> err, co = max_travel_error(intent, Settings("positioner", "ATO", "direct", 4.0, 12.0, MA_4_20))
@@ -364,7 +364,7 @@ def travel_on_signal_loss_pct(
     input_high: float | None = None,
     signal_kind: str = "pneumatic",
 ) -> float:
-    """Travel, %, when the input signal is lost (DESIGN §3.3).
+    """Travel, %, when the input signal is lost (docs/design.md §4.6).
 
     ``signal_kind`` ``electronic``: a two-wire, loop-powered positioner (4-20 mA) loses
     its power with its signal, its output vents and the spring takes the valve to its
@@ -428,7 +428,7 @@ class PairRelation:
 
 @dataclass(frozen=True)
 class Arrangement:
-    """Elements of one split group in CO order and the group mode (DESIGN §3.1).
+    """Elements of one split group in CO order and the group mode (docs/design.md §4.2).
 
     ``mode`` is ``opposed``, ``staged``, ``staged-opposed``, ``parallel``, ``mixed``,
     or ``single`` for a group of one. ``order`` holds input indices in CO order and
@@ -473,7 +473,7 @@ _MODES = {
 
 
 def classify(intents: Sequence[Intent]) -> Arrangement:
-    """Order a split group by CO start and name its mode (DESIGN §3.1).
+    """Order a split group by CO start and name its mode (docs/design.md §4.2).
 
     Ties are broken by CO end, then travel at start and end, so the result does not
     depend on input order (except the input indices it reports). A mode holds when

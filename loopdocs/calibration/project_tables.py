@@ -1,4 +1,4 @@
-"""The calibration tables of a project: records in, tables out (DESIGN §4).
+"""The calibration tables of a project: records in, tables out (docs/design.md §7.1).
 
 Which table each tag gets:
 
@@ -75,7 +75,7 @@ class CalibrationSet:
         return replace(self, tables=tables, skipped=skipped)
 
     def as_json(self) -> dict[str, Any]:
-        """DESIGN §5: ``{instruments: [...]}``, plus the skipped tags and the options used."""
+        """docs/design.md §9.2: ``{instruments: [...]}``, plus the skipped tags and the options used."""
         return {
             "instruments": [t.as_json() for t in self.tables],
             "skipped": [s.as_json() for s in self.skipped],

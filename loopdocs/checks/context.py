@@ -4,7 +4,7 @@ the "could not verify" record, and the severity cap for findings that rest on a 
 A rule is a function ``rule(ctx) -> Iterable[Finding | Unverified]``. Where data a rule
 needs is missing it yields an :class:`Unverified` instead of a finding; ``collect`` merges
 them into ONE ``check.not-verified`` info per tag or group, listing everything that could
-not be verified there (DESIGN §2: a check never guesses silently).
+not be verified there (docs/design.md §2.3: a check never guesses silently).
 """
 
 from __future__ import annotations
@@ -60,7 +60,7 @@ def defaults_used(element: SplitElement, keys: Iterable[str]) -> list[str]:
 
 
 def capped(severity: Severity, message: str, defaults: list[str]) -> tuple[Severity, str]:
-    """A finding resting on a default says so and is at most a warning (DESIGN §3)."""
+    """A finding resting on a default says so and is at most a warning (docs/design.md §3.4)."""
     if not defaults:
         return severity, message
     if severity is Severity.ERROR:

@@ -1,4 +1,4 @@
-"""Loop-load and channel rules (DESIGN §3.3), run with the split rules by ``checks/split_rules.py``:
+"""Loop-load and channel rules (docs/design.md §5.8), run with the split rules by ``checks/split_rules.py``:
 
 - ``loop.load`` (error): the devices in series on one analog output drop
   ``sum(Device Volts)`` at 20 mA; that must not exceed the output's Loop Volts (compliance
@@ -27,7 +27,7 @@ from loopdocs.model.records import Tag
 from loopdocs.model.tagname import TagKind
 from loopdocs.model.vocab import Signal
 
-#: Highest loop current a transmitter drives, A (DESIGN §3.3; common practice).
+#: Highest loop current a transmitter drives, A (docs/design.md §6.8; common practice).
 TRANSMITTER_MAX_CURRENT_A = 0.022
 _FIELD_KINDS = (TagKind.TRANSMITTER, TagKind.FINAL_ELEMENT, TagKind.RELAY)
 

@@ -1,4 +1,4 @@
-"""Split-range checks (DESIGN §3.3): each rule a small function over the split groups of
+"""Split-range checks (docs/design.md §5.6): each rule a small function over the split groups of
 ``loopdocs.model.groups``; valve and loop-load rules are in ``checks/valve.py`` and
 ``checks/loopload.py``. The registry (``loopdocs.checks``) runs them all and merges what
 could not be verified into one ``check.not-verified`` info per tag or group.
@@ -18,7 +18,7 @@ Rules of this module:
 - ``split.overlap`` (warning between opposed staged neighbours, which then act at once;
   info between same-direction neighbours): CO where two neighbours both move.
 - ``split.settings`` (error): a positioner or pneumatic element whose input range does not
-  realise its intent within 1 % travel (DESIGN §3.2), or whose Input Units are not of
+  realise its intent within 1 % travel (docs/design.md §4.4), or whose Input Units are not of
   the signal's kind; the message gives the range it needs.
 - ``split.double-split`` (error): a ``dcs`` element whose positioner is not set to the full
   span, so the split is made twice.
@@ -27,7 +27,7 @@ Rules of this module:
   (only where they score better than the settings) and, where no boundaries keep the
   gain within the band, what does (linear trims or a deliberate overlap).
 
-A finding resting on a default (DESIGN §3) says so and is at most a warning.
+A finding resting on a default (docs/design.md §3.4) says so and is at most a warning.
 """
 
 from __future__ import annotations
@@ -62,7 +62,7 @@ from loopdocs.model.tagname import TagKind
 
 #: Gaps and overlaps narrower than this, % CO, are rounding, not design.
 MIN_WIDTH_PCT = 0.01
-#: Gain ratio band across a boundary (DESIGN §3.3; common practice).
+#: Gain ratio band across a boundary (docs/design.md §6.9; common practice).
 GAIN_RATIO_BAND = (0.5, 2.0)
 #: Defaults a settings cross-check can rest on.
 SETTINGS_DEFAULTS = ("co", "travel", "method", "span", "input_units", "positioner_action")
@@ -256,7 +256,7 @@ def _realisable(e: SplitElement) -> bool:
 
 
 def settings(ctx: Context) -> Iterator[Finding | Unverified]:
-    """``split.settings``: the input range realises the intent within 1 % travel (DESIGN §3.2)."""
+    """``split.settings``: the input range realises the intent within 1 % travel (docs/design.md §4.4)."""
     project = ctx.project
     for group, e in ctx.elements():
         if e.intent is None:

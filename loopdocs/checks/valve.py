@@ -1,4 +1,4 @@
-"""Valve rules (DESIGN §3.3), run with the split rules by ``checks/split_rules.py``:
+"""Valve rules (docs/design.md §5.7), run with the split rules by ``checks/split_rules.py``:
 
 - ``valve.air-fail`` (error): a spring-return actuator fails where its spring pushes it:
   ATO fails closed (FC), ATC fails open (FO). FL and FAI are not spring positions and are
@@ -85,7 +85,7 @@ class SignalKind:
 
 
 def signal_kind_of(tag: Tag, group: SplitGroup | None) -> SignalKind:
-    """The signal a valve's positioner sees, from the index (DESIGN §3.3).
+    """The signal a valve's positioner sees, from the index (docs/design.md §4.6).
 
     Pneumatic when the valve is in a pneumatic split (Split Method pneumatic, stated or
     taken from a pneumatic signal), when its group has a converter with a pneumatic

@@ -30,6 +30,6 @@ def emit_json(data: Any) -> None:
 
 
 def fail_input(exc: InputError) -> NoReturn:
-    """Exit 2 with one line on stderr (DESIGN §5)."""
+    """Exit 2 with one line on stderr (docs/design.md §9.4)."""
     typer.echo(f"loopdocs: {exc}", err=True)
     raise typer.Exit(2)

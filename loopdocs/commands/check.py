@@ -1,4 +1,4 @@
-"""``loopdocs check``: findings as a table grouped by loop, or as DESIGN §5 JSON."""
+"""``loopdocs check``: findings as a table grouped by loop, or as docs/design.md §9.1 JSON."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""Check results for people (a terminal table grouped by loop) and for tools (DESIGN §5 JSON)."""
+"""Check results for people (a terminal table grouped by loop) and for tools (docs/design.md §9.1 JSON)."""
 
 from __future__ import annotations
 

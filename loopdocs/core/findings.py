@@ -2,7 +2,7 @@
 
 A finding names its rule (short dotted name of ours, such as ``split.gap``), a severity,
 the loop and tags it concerns, a message that states the numbers, and the spreadsheet
-cell to fix. The JSON form is the contract of ``../shared/DESIGN.md`` §5.
+cell to fix. The JSON form is the contract of docs/design.md §9.1.
 """
 
 from __future__ import annotations

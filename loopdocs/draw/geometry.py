@@ -22,7 +22,7 @@ from loopdocs.draw.text import text_box
 
 Point = tuple[float, float]
 
-#: Line widths of the drawing set, mm (DESIGN §6; ISO 128 series, from memory).
+#: Line widths of the drawing set, mm (docs/design.md §8.4; ISO 128 series, from memory).
 THIN_MM = 0.25
 MEDIUM_MM = 0.35
 WIDE_MM = 0.5

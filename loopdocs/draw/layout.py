@@ -1,6 +1,6 @@
 """Loop diagram layout: where every symbol, line and text of one loop goes, in mm.
 
-The diagram reads left to right through the places a signal passes (DESIGN §6): field,
+The diagram reads left to right through the places a signal passes (docs/design.md §8.1): field,
 local panel, junction box, cabinet (marshalling and rack-mounted devices) and control
 system, each a vertical band; bands with nothing in them are left out. Each device of
 the loop gets a horizontal *row*: its signal line runs straight along the row through
@@ -127,7 +127,7 @@ def fmt_number(value: float) -> str:
 
 
 def line_kind(signal: Signal | None) -> str:
-    """Line style for a signal (DESIGN §6; ISA-5.1 line symbols).
+    """Line style for a signal (docs/design.md §8.1; ISA-5.1 line symbols).
 
     >>> line_kind(Signal.PSIG_3_15), line_kind(Signal.FIELDBUS), line_kind(Signal.MA_4_20_HART)
     ('pneumatic', 'data', 'electrical')
@@ -829,7 +829,7 @@ def _attach_to_driven_row(rows: list[Row], start: int, function: Tag, station: S
 def _merge_outputs(rows: list[Row], start: int) -> None:
     """Let an output row join the output row above it where both share everything from a
     junction-box terminal, a cabinet terminal or the I/O channel onward (positioners in
-    series on one output; DESIGN §3.3)."""
+    series on one output; docs/design.md §5.8)."""
     for i in range(start + 1, len(rows)):
         row, prev = rows[i], rows[i - 1]
         if row.role != "output" or prev.role != "output" or row.linked != prev.linked:
@@ -866,7 +866,7 @@ def _merge_root(rows: list[Row], index: int) -> int:
 
 
 def _series_groups(rows: list[Row], tags: dict[str, Tag]) -> None:
-    """Mark positioners in series on one output: a positioner split (DESIGN §3.2, one
+    """Mark positioners in series on one output: a positioner split (docs/design.md §4.3, one
     analog output for the group) whose rows all join the first row before the same
     shared item. Their rows get ``series``/``series_of`` and are drawn as wired."""
     for r, row in enumerate(rows):

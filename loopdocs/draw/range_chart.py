@@ -4,7 +4,7 @@ One chart per split group (``loopdocs.model.groups``), drawn to be read at its n
 size, ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM`` (about the space an A3 loop sheet gives it):
 
 - travel %, 0 to 100, against CO %, 0 to 100, one line per element, labelled with its
-  tag. The line is the travel the element's *settings* give (DESIGN §3.2,
+  tag. The line is the travel the element's *settings* give (docs/design.md §4.3,
   ``loopdocs.calc.travel.realised_travel_pct``); where that differs from the intent by
   more than the 1 % tolerance the intent is drawn too, thin and dashed. Without usable
   settings the intent is drawn and the label says so;
@@ -58,7 +58,7 @@ GAP_FILL = "#d9d9d9"
 OVERLAP_FILL = "#8c8c8c"
 #: Dash patterns, mm, telling elements apart in black and white: solid, long dash, dash-dot, short dash.
 ELEMENT_DASHES: tuple[tuple[float, ...] | None, ...] = (None, (4.0, 1.5), (5.0, 1.2, 1.0, 1.2), (1.6, 1.2))
-#: Travel error above which the intent is drawn beside the settings, % travel (DESIGN §3.2).
+#: Travel error above which the intent is drawn beside the settings, % travel (docs/design.md §4.4).
 TOLERANCE_PCT = 1.0
 
 
@@ -108,7 +108,7 @@ def _breakpoints_co(element: SplitElement) -> list[float]:
 
 def travel_curve(element: SplitElement) -> tuple[list[tuple[float, float]], str] | None:
     """(CO %, travel %) points of the line drawn for ``element`` and its source:
-    ``settings`` (realised travel, DESIGN §3.2) or ``intent`` when it has no usable
+    ``settings`` (realised travel, docs/design.md §4.3) or ``intent`` when it has no usable
     settings; None when it has neither. Collinear points are dropped."""
     if element.settings is not None:
         travel, source = element.realised_travel_pct, "settings"

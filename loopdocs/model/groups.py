@@ -1,5 +1,5 @@
 """Split groups: the final elements one controller output moves, each with its intent
-and its settings (DESIGN §3), built from the records of a :class:`Project`.
+and its settings (docs/design.md §3.3), built from the records of a :class:`Project`.
 
 Every final element with a Driven By joins the group of that controller. A relay or
 converter (tag kind RELAY, e.g. the I/P ``PY-4120``) driven by the controller is not a
@@ -7,7 +7,7 @@ final element: it is kept on the group as a *converter*, and when its Signal is
 pneumatic (3-15 psig, 20-100 kPa) it sets the pneumatic span of a ``pneumatic`` split.
 An element whose Driven By names such a relay belongs to the relay's own driver.
 
-Defaults (DESIGN §3, ``docs/index-format.md``), each recorded in
+Defaults (docs/design.md §3.4, ``docs/index-format.md``), each recorded in
 ``SplitElement.assumptions`` so a finding resting on one can say so:
 
 - blank CO Start/End: 0 to 100 %;
@@ -45,7 +45,7 @@ Public API
     ``gain_ratios`` (gain ratio across each boundary as set, same condition as the
     advice), ``capacity_assumptions``, ``is_split`` (more
     than one element, or one over part of the CO), ``capacity_curve(step_pct)`` (total Cv
-    against CO for the range chart, ``None`` without Cv) and ``as_json()`` (DESIGN §5).
+    against CO for the range chart, ``None`` without Cv) and ``as_json()`` (docs/design.md §9.1).
 
 ``SplitElement``
     ``record`` (the element's ``Tag``), ``tag``, ``loop``, ``method``, ``span`` (the
@@ -307,7 +307,7 @@ class SplitGroup:
 
     @property
     def mode(self) -> str:
-        """The arrangement of the usable elements (DESIGN §3.1); ``single`` only for a group of
+        """The arrangement of the usable elements (docs/design.md §4.2); ``single`` only for a group of
         one; ``incomplete`` for a group of two or more with fewer than two usable elements
         (an invalid element is still part of its group, so the group is not a single valve)."""
         if self.arrangement is not None and (self.arrangement.mode != "single" or len(self.elements) == 1):
@@ -349,7 +349,7 @@ class SplitGroup:
         )
 
     def as_json(self) -> dict[str, Any]:
-        """DESIGN §5: ``{controller, loop, mode, elements, recommended_boundaries}``."""
+        """docs/design.md §9.1: ``{controller, loop, mode, elements, recommended_boundaries}``."""
         return {
             "controller": self.controller,
             "loop": self.loop,

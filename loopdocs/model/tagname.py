@@ -1,6 +1,6 @@
 """Tag grammar and the ISA-5.1 identification letters.
 
-Default grammar (DESIGN §2): optional area prefix, function letters, optional separator,
+Default grammar (docs/design.md §2.4): optional area prefix, function letters, optional separator,
 loop number, optional suffix letter(s): ``41-TIC-3105``, ``TIC3105``, ``TV-3105A``.
 The first letter, plus a first-letter modifier where one follows (``D`` in ``PDT``), is
 the measured variable; the loop id is the area prefix, the measured variable and the

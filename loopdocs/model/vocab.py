@@ -1,6 +1,6 @@
 """Enumerated vocabularies of the index, and the common spellings each accepts.
 
-Every enumerated column of the index (DESIGN §2) has one ``Vocab`` enum here. Cells are
+Every enumerated column of the index (docs/design.md §2.2) has one ``Vocab`` enum here. Cells are
 folded before lookup (case, dots, hyphens, underscores, slashes and runs of spaces do
 not matter: ``"A.T.O."``, ``"air-to-open"`` and ``"Air to open"`` all read as ATO).
 A value that is not recognised is rejected with the list of accepted values; it is never

@@ -35,7 +35,7 @@ class TitleBlock(BaseModel):
 
 
 class AcceptedFinding(BaseModel):
-    """A finding accepted on purpose by engineering review (DESIGN §5)."""
+    """A finding accepted on purpose by engineering review (docs/design.md §5.1)."""
 
     model_config = ConfigDict(extra="forbid")
 

@@ -1,4 +1,4 @@
-"""Render: loop sheets as HTML and PDF, the issue package, the build cache (DESIGN §6, §7).
+"""Render: loop sheets as HTML and PDF, the issue package, the build cache (docs/design.md §8, §7).
 
 - ``settings``: the ``[sheet]`` table of ``loopdocs.toml`` (paper, notes, revisions,
   release of sheets with errors);

@@ -2,7 +2,7 @@
 
 :func:`sheet_html` takes what the other stages made for one loop (the loop diagram SVG
 from ``loopdocs.draw``, the range chart SVG of each split group, the calibration tables
-in the DESIGN §5 ``calibrate`` JSON shape, the loop's findings) and the sheet's frame
+in the docs/design.md §9.2 ``calibrate`` JSON shape, the loop's findings) and the sheet's frame
 (title block, sheet settings, sheet n of m) and returns the HTML that ``loopdocs.render.pdf``
 turns into a PDF page. Nothing here computes engineering values.
 
@@ -11,7 +11,7 @@ the spreadsheet or the config is escaped. The only markup passed through unescap
 SVG made by our own draw code, and it is first checked by :func:`trusted_svg` (well-formed
 XML, no script, no foreign objects, no links or references outside the document).
 
-Drafting practice (DESIGN §6; ISO 3098-1 lettering and ISO 128-2 line widths, from
+Drafting practice (docs/design.md §8.4; ISO 3098-1 lettering and ISO 128-2 line widths, from
 memory): capital letters at least 2.5 mm high (1.8 mm in dense tables), line widths
 0.25, 0.35, 0.5 and 0.7 mm. The CSS sizes are font sizes; DejaVu Sans has a capital
 height of 1493/2048 = 0.729 em (its ``H`` glyph), so 3.5 mm type gives 2.55 mm capitals
