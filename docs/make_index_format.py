@@ -10,7 +10,7 @@ from pathlib import Path
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 
-from loopdocs.model.vocab import VOCAB_COLUMNS  # noqa: E402
+from loopdocs.model.vocab import LIST_VOCAB_COLUMNS, VOCAB_COLUMNS  # noqa: E402
 from loopdocs.read.columns import COLUMNS  # noqa: E402
 
 WHEN_BLANK = {
@@ -57,6 +57,27 @@ WHEN_BLANK = {
     "cable": "Not shown.",
     "cabinet": "The cabinet band is left out of the diagram.",
     "cabinet_terminals": "Not shown.",
+    "device_type": "The symbol follows the tag letters and Sensor (a DP element for flow, a thermowell for temperature).",
+    "valve_body": "Drawn as a globe body.",
+    "actuator": "Drawn as a spring-diaphragm actuator; a pneumatic actuator is assumed for the air-supply check only when Air Action is given.",
+    "valve_size": "Not shown.",
+    "accessories": "None drawn.",
+    "wires": "2-wire (loop powered) for 4-20 mA transmitters; no power-source check.",
+    "power_source": "Not shown; a 4-wire device without it is reported (`supply.power`).",
+    "air_supply": "Not shown; a pneumatic valve or I/P without it is reported (`supply.air`).",
+    "barrier": "None drawn; a device in a classified area without it is reported (`area.protection`).",
+    "area_class": "Not shown; no protection check.",
+    "cores": "Not shown.",
+    "shield": "Not shown.",
+    "set_point": "Switches: no set-point test; controllers: not shown.",
+    "reset": "Switches: no reset or dead-band check.",
+    "alarm_ll": "No alarm of that kind.",
+    "alarm_l": "No alarm of that kind.",
+    "alarm_h": "No alarm of that kind.",
+    "alarm_hh": "No alarm of that kind.",
+    "interlock": "Not shown.",
+    "data_sheet": "Not shown.",
+    "hookup": "Not shown.",
     "notes": "Not shown.",
 }
 
@@ -84,9 +105,11 @@ def render() -> str:
         "|---|---|---|---|---|",
     ]
     for column in COLUMNS:
-        vocab = VOCAB_COLUMNS.get(column.key)
+        vocab = VOCAB_COLUMNS.get(column.key) or LIST_VOCAB_COLUMNS.get(column.key)
         if vocab is not None:
             values = ", ".join(f"`{m.value}`" for m in vocab)
+            if column.key in LIST_VOCAB_COLUMNS:
+                values = "a list separated by `,` `;` `+` or `and`, of: " + values
             spellings = vocab.spellings()
             others = sorted({s for m in vocab for s in spellings.get(m.value, ())})
             if others:

@@ -5,6 +5,8 @@ Every rule module is imported here and nowhere else runs them:
 - ``structural``: ranges and loop ids of single rows;
 - ``consistency``: contradictions between columns (sensor, signal, units, switch, element);
 - ``flow``: differential-pressure flow transmitters and their square root;
+- ``alarms``: alarm settings and switch set points and resets;
+- ``installation``: power and air supplies, barriers in classified areas, screens;
 - ``split_rules``, ``valve`` and ``loopload``: rules over the split groups of
   ``loopdocs.model.groups`` (one ``Context`` built once), what they could not verify merged
   into one ``check.not-verified`` per tag or group (``context.collect``).
@@ -20,7 +22,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable, Iterable, Iterator
 
-from loopdocs.checks import consistency, flow, loopload, split_rules, structural, valve
+from loopdocs.checks import alarms, consistency, flow, installation, loopload, split_rules, structural, valve
 from loopdocs.checks.context import Context, Rule, collect
 from loopdocs.core.findings import Acceptance, Finding, Severity, sorted_findings
 from loopdocs.model.groups import SplitGroup, groups_for
@@ -43,7 +45,9 @@ def group_checks(project: Project) -> Iterator[Finding]:
     yield from collect(Context.of(project), GROUP_RULES)
 
 
-ALL_CHECKS: tuple[CheckFunction, ...] = (structural.checks, consistency.checks, flow.checks, group_checks)
+ALL_CHECKS: tuple[CheckFunction, ...] = (
+    structural.checks, consistency.checks, flow.checks, alarms.checks, installation.checks, group_checks,
+)
 
 
 def run_checks(project: Project) -> list[Finding]:

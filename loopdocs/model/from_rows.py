@@ -22,7 +22,7 @@ from typing import Any, Iterable
 from loopdocs.core.findings import Finding, Location, Severity
 from loopdocs.model.records import Loop, Project, Tag
 from loopdocs.model.tagname import TagKind, TagParts, compile_tag_pattern, parse_tag, tag_kind
-from loopdocs.model.vocab import VOCAB_COLUMNS
+from loopdocs.model.vocab import LIST_VOCAB_COLUMNS, VOCAB_COLUMNS
 from loopdocs.read import IndexTable
 from loopdocs.read.columns import NUMERIC_KEYS
 from loopdocs.read.project_file import ProjectConfig
@@ -58,6 +58,8 @@ def _text(value: Any) -> str:
 def _convert_uncached(key: str, value: Any) -> Any:
     if key in VOCAB_COLUMNS:
         return VOCAB_COLUMNS[key].parse(_text(value))
+    if key in LIST_VOCAB_COLUMNS:
+        return LIST_VOCAB_COLUMNS[key].parse_list(_text(value))
     if key in NUMERIC_KEYS:
         return to_number(value)
     return _text(value)
@@ -176,7 +178,7 @@ def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tup
             try:
                 fields[key] = convert(key, value)
             except ValueError as exc:
-                rule = "index.vocabulary" if key in VOCAB_COLUMNS else "index.not-a-number"
+                rule = "index.vocabulary" if key in VOCAB_COLUMNS or key in LIST_VOCAB_COLUMNS else "index.not-a-number"
                 findings.append(Finding(
                     rule, Severity.ERROR, f"{tag_text}: {exc}",
                     loop=parts.loop_id, tags=(tag_text,), location=at(row.row, key),

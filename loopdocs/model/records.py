@@ -14,21 +14,27 @@ from pydantic import BaseModel, ConfigDict, Field
 
 from loopdocs.core.findings import Location
 from loopdocs.model.tagname import TagKind, TagParts
-from loopdocs.read.project_file import ProjectConfig
 from loopdocs.model.vocab import (
+    Accessory,
+    Actuator,
     AirAction,
     Characteristic,
     ControlAction,
+    DeviceType,
     Effect,
     FailPosition,
     Location as MountLocation,
     Platform,
     PositionerAction,
     Sensor,
+    Shield,
     Signal,
     SplitMethod,
     Transfer,
+    ValveBody,
+    Wires,
 )
+from loopdocs.read.project_file import ProjectConfig
 
 
 class Tag(BaseModel):
@@ -86,6 +92,27 @@ class Tag(BaseModel):
     cable: str | None = None
     cabinet: str | None = None
     cabinet_terminals: str | None = None
+    device_type: DeviceType | None = None
+    valve_body: ValveBody | None = None
+    actuator: Actuator | None = None
+    valve_size: str | None = None
+    accessories: tuple[Accessory, ...] = ()
+    wires: Wires | None = None
+    power_source: str | None = None
+    air_supply: str | None = None
+    barrier: str | None = None
+    area_class: str | None = None
+    cores: str | None = None
+    shield: Shield | None = None
+    set_point: float | None = None
+    reset: float | None = None
+    alarm_ll: float | None = None
+    alarm_l: float | None = None
+    alarm_h: float | None = None
+    alarm_hh: float | None = None
+    interlock: str | None = None
+    data_sheet: str | None = None
+    hookup: str | None = None
     notes: str | None = None
     extra: dict[str, Any] = Field(default_factory=dict)
     """Columns the template does not know, kept as read (header -> value)."""

@@ -288,6 +288,181 @@ class Characteristic(Vocab):
         }
 
 
+class DeviceType(Vocab):
+    """What a measuring device is: its measuring principle, for its symbol on the diagram."""
+
+    DP = "DP"
+    MAGNETIC = "magnetic"
+    VORTEX = "vortex"
+    CORIOLIS = "Coriolis"
+    ULTRASONIC = "ultrasonic"
+    THERMAL_MASS = "thermal mass"
+    VARIABLE_AREA = "variable area"
+    TURBINE = "turbine"
+    POSITIVE_DISPLACEMENT = "positive displacement"
+    RADAR = "radar"
+    GUIDED_WAVE_RADAR = "guided-wave radar"
+    DISPLACER = "displacer"
+    HYDROSTATIC = "hydrostatic"
+    CAPACITANCE = "capacitance"
+    FLOAT = "float"
+    PRESSURE = "pressure"
+    THERMOWELL = "thermowell"
+    PH = "pH"
+    CONDUCTIVITY = "conductivity"
+    OXYGEN = "oxygen"
+    ANALYSER = "analyser"
+
+    @classmethod
+    def spellings(cls):
+        return {
+            "DP": ("differential pressure", "d p", "orifice", "orifice plate", "venturi", "dp cell", "dp flow"),
+            "magnetic": ("mag", "magflow", "magmeter", "electromagnetic", "em"),
+            "vortex": ("vortex shedding",),
+            "Coriolis": ("coriolis mass", "mass flow meter", "cor"),
+            "ultrasonic": ("us", "transit time", "ultrasound", "doppler"),
+            "thermal mass": ("thermal", "thermal dispersion"),
+            "variable area": ("rotameter", "va"),
+            "turbine": ("turbine meter",),
+            "positive displacement": ("pd", "pd meter", "oval gear"),
+            "radar": ("non contact radar", "free space radar"),
+            "guided-wave radar": ("gwr", "guided wave", "guided radar", "tdr"),
+            "displacer": ("torque tube",),
+            "hydrostatic": ("dp level", "bubbler", "head"),
+            "capacitance": ("capacitive", "rf"),
+            "float": ("float switch", "magnetic float"),
+            "pressure": ("gauge pressure", "absolute pressure", "strain gauge", "piezo"),
+            "thermowell": ("temperature", "temperature with thermowell", "well", "tw"),
+            "pH": ("ph", "ph analyser", "ph analyzer", "orp"),
+            "conductivity": ("cond", "conductivity analyser", "conductivity analyzer"),
+            "oxygen": ("o2", "dissolved oxygen", "do", "oxygen analyser", "oxygen analyzer"),
+            "analyser": ("analyzer", "gas analyser", "gas analyzer", "analyser other"),
+        }
+
+
+class ValveBody(Vocab):
+    GLOBE = "globe"
+    ANGLE = "angle"
+    BUTTERFLY = "butterfly"
+    BALL = "ball"
+    SEGMENTED_BALL = "segmented ball"
+    ECCENTRIC_PLUG = "eccentric plug"
+    DIAPHRAGM = "diaphragm"
+    THREE_WAY = "three-way"
+
+    @classmethod
+    def spellings(cls):
+        return {
+            "globe": ("globe valve", "cage", "single seat", "double seat"),
+            "angle": ("angle valve", "angle body"),
+            "butterfly": ("bfv", "butterfly valve", "high performance butterfly", "hpbv", "triple offset"),
+            "ball": ("ball valve", "full bore ball", "trunnion ball"),
+            "segmented ball": ("v ball", "vee ball", "v port ball", "segment ball"),
+            "eccentric plug": ("rotary plug", "eccentric rotary plug", "camflex"),
+            "diaphragm": ("diaphragm valve", "weir", "saunders"),
+            "three-way": ("3 way", "three way", "3 way valve", "diverting", "mixing"),
+        }
+
+
+class Actuator(Vocab):
+    SPRING_DIAPHRAGM = "spring-diaphragm"
+    SPRING_PISTON = "spring-return piston"
+    DOUBLE_ACTING_PISTON = "double-acting piston"
+    ELECTRIC = "electric"
+    HYDRAULIC = "hydraulic"
+
+    @classmethod
+    def spellings(cls):
+        return {
+            "spring-diaphragm": ("diaphragm", "spring diaphragm", "pneumatic diaphragm", "spring and diaphragm"),
+            "spring-return piston": ("spring return", "piston spring return", "single acting piston", "sr piston", "spring piston"),
+            "double-acting piston": ("double acting", "da piston", "piston double acting", "piston"),
+            "electric": ("motor", "electric motor", "mov", "electrical"),
+            "hydraulic": ("electro hydraulic", "hyd"),
+        }
+
+    @property
+    def is_pneumatic(self) -> bool:
+        return self in (Actuator.SPRING_DIAPHRAGM, Actuator.SPRING_PISTON, Actuator.DOUBLE_ACTING_PISTON)
+
+
+class Accessory(Vocab):
+    """A valve accessory; the Accessories cell lists several (``parse_list``)."""
+
+    SOLENOID = "solenoid valve"
+    LIMIT_OPEN = "open limit switch"
+    LIMIT_CLOSED = "closed limit switch"
+    BOOSTER = "volume booster"
+    LOCK_UP = "lock-up"
+    FILTER_REGULATOR = "air filter regulator"
+    POSITION_TRANSMITTER = "position transmitter"
+
+    @classmethod
+    def spellings(cls):
+        return {
+            "solenoid valve": ("solenoid", "sov", "sv", "trip solenoid", "solenoid operated valve"),
+            "open limit switch": ("open limit", "zso", "limit switch open", "open position switch"),
+            "closed limit switch": ("closed limit", "close limit", "zsc", "limit switch closed", "closed position switch"),
+            "volume booster": ("booster",),
+            "lock-up": ("lock up", "lockup", "lock up valve", "air lock"),
+            "air filter regulator": ("afr", "filter regulator", "air set", "airset", "regulator"),
+            "position transmitter": ("zt", "position feedback", "feedback transmitter"),
+        }
+
+    @classmethod
+    def parse_list(cls, text: str) -> tuple["Accessory", ...]:
+        """A list cell: items separated by ``,``, ``;``, ``+`` or ``and``; ``limit switches``
+        (or ``open/closed limit switches``) means both. ValueError names the item not known.
+
+        >>> [a.value for a in Accessory.parse_list("SOV, open/closed limit switches")]
+        ['solenoid valve', 'open limit switch', 'closed limit switch']
+        """
+        items: list[Accessory] = []
+        for part in re.split(r"[,;+]|\band\b", str(text)):
+            if not part.strip():
+                continue
+            folded = fold(part)
+            if folded in ("limit switches", "open closed limit switches", "open close limit switches", "zso zsc",
+                          "zsc zso", "both limit switches"):
+                found: tuple[Accessory, ...] = (Accessory.LIMIT_OPEN, Accessory.LIMIT_CLOSED)
+            else:
+                found = (cls.parse(part),)  # type: ignore[assignment]
+            items += [a for a in found if a not in items]
+        return tuple(items)
+
+
+class Wires(Vocab):
+    TWO = "2-wire"
+    THREE = "3-wire"
+    FOUR = "4-wire"
+
+    @classmethod
+    def spellings(cls):
+        return {
+            "2-wire": ("2", "two wire", "2w", "loop powered", "2 wire"),
+            "3-wire": ("3", "three wire", "3w"),
+            "4-wire": ("4", "four wire", "4w", "externally powered", "mains powered", "separately powered"),
+        }
+
+
+class Shield(Vocab):
+    """Where a cable screen is earthed."""
+
+    CABINET = "cabinet"
+    FIELD = "field"
+    BOTH = "both"
+    NONE = "none"
+
+    @classmethod
+    def spellings(cls):
+        return {
+            "cabinet": ("panel", "control room", "cabinet end", "system end", "marshalling"),
+            "field": ("field end", "instrument end", "device end"),
+            "both": ("both ends", "cabinet and field", "field and cabinet"),
+            "none": ("no", "n a", "unscreened", "not earthed", "floating"),
+        }
+
+
 VOCAB_COLUMNS: dict[str, type[Vocab]] = {
     "location": Location,
     "platform": Platform,
@@ -301,5 +476,13 @@ VOCAB_COLUMNS: dict[str, type[Vocab]] = {
     "split_method": SplitMethod,
     "effect": Effect,
     "characteristic": Characteristic,
+    "device_type": DeviceType,
+    "valve_body": ValveBody,
+    "actuator": Actuator,
+    "wires": Wires,
+    "shield": Shield,
 }
 """Index column key -> the vocabulary its cells must come from."""
+
+LIST_VOCAB_COLUMNS: dict[str, type[Accessory]] = {"accessories": Accessory}
+"""Index column key -> the vocabulary of each item of a list cell (``parse_list``)."""
