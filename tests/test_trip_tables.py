@@ -1,0 +1,38 @@
+"""Switch set-point and alarm tests: expected trip values, directions and signals.
+
+Sources: a high switch trips rising through its set point and resets below it, a low one
+the other way (ISA-5.1 succeeding letters H and L; common practice for the test); the
+signal for a process value on a 4-20 mA input is 4 + 16 * (x - LRV) / span (IEC 60381-1).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from loopdocs.calc.signals import PSIG_3_15
+from loopdocs.calc.trip_tables import alarm_table, switch_table
+
+
+def test_high_switch_trips_rising_and_resets_falling():
+    t = switch_table("PSH-1", 5.0, 4.5, "barg", "high", (0.0, 10.0), 1.0)
+    assert [(p.direction, p.output.value) for p in t.points] == [("up", 5.0), ("down", 4.5)]
+    # 1 % of a 10 barg adjustable range = +/-0.1 barg
+    assert t.tolerance.output.value == pytest.approx(0.1) and t.tolerance.output.unit == "barg"
+    assert any("dead band 0.5 barg" in n for n in t.notes)
+
+
+def test_low_switch_trips_falling():
+    t = switch_table("LSL-2", 300.0, 350.0, "mm", "low")
+    assert [(p.direction, p.output.value) for p in t.points] == [("down", 300.0), ("up", 350.0)]
+    assert t.tolerance is None  # no range, no accuracy: nothing to judge against
+
+
+def test_alarm_signals_and_directions():
+    # 0-10 barg on 4-20 mA: H 8 barg -> 16.8 mA approached rising; L 2 barg -> 7.2 mA falling
+    t = alarm_table("PT-3", [("LL", 1.0), ("L", 2.0), ("H", 8.0), ("HH", 9.0)], 0.0, 10.0, "barg", accuracy_pct=0.5)
+    assert [(p.direction, round(p.input.value, 9), p.output.value) for p in t.points] == [
+        ("down", 5.6, 1.0), ("down", 7.2, 2.0), ("up", 16.8, 8.0), ("up", 18.4, 9.0)]
+    assert t.tolerance.output.value == pytest.approx(0.05)
+    # 3-15 psig (ANSI/ISA-50.00.01): 80 % -> 12.6 psig
+    p = alarm_table("PT-4", [("H", 8.0)], 0.0, 10.0, "barg", PSIG_3_15).points[0]
+    assert (round(p.input.value, 9), p.input.unit) == (12.6, "psig")
