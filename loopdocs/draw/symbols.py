@@ -247,9 +247,8 @@ def parse_symbol(svg: str | bytes, name: str) -> Symbol:
         elif _is_text_area(element):
             if not element_id.startswith("text-") or element_id[5:] in areas:
                 raise SymbolError(f"{where}: a text area needs a unique id 'text-NAME'")
-            areas[element_id[5:]] = tuple(  # type: ignore[assignment]
-                _number(element, a, where) for a in ("x", "y", "width", "height")
-            )
+            x, y, w, h = (_number(element, a, where) for a in ("x", "y", "width", "height"))
+            areas[element_id[5:]] = (x, y, w, h)
 
     texts = {_local(c.tag): (c.text or "").strip() for c in root if _local(c.tag) in ("title", "desc")}
     parts = []
@@ -317,14 +316,18 @@ def stack(base: Symbol, base_port: str, top: Symbol, top_port: str) -> Symbol:
 
     ports = {k: moved(p, dx + sx, dy + sy) for k, p in top.ports.items()}
     ports.update({k: moved(p, sx, sy) for k, p in base.ports.items()})
-    areas = {k: (*moved(a[:2], dx + sx, dy + sy), a[2], a[3]) for k, a in top.text_areas.items()}
-    areas.update({k: (*moved(a[:2], sx, sy), a[2], a[3]) for k, a in base.text_areas.items()})
+    def moved_area(area: Box, ox: float, oy: float) -> Box:
+        x, y = moved((area[0], area[1]), ox, oy)
+        return (x, y, area[2], area[3])
+
+    areas = {k: moved_area(a, dx + sx, dy + sy) for k, a in top.text_areas.items()}
+    areas.update({k: moved_area(a, sx, sy) for k, a in base.text_areas.items()})
     return Symbol(
         name=f"{base.name}+{top.name}",
         width_mm=round(max_x - min_x, 3),
         height_mm=round(max_y - min_y, 3),
         ports=MappingProxyType(ports),
-        text_areas=MappingProxyType(areas),  # type: ignore[arg-type]
+        text_areas=MappingProxyType(areas),
         markup=_translated(base.markup, sx, sy) + _translated(top.markup, dx + sx, dy + sy),
         title=f"{base.title} + {top.title}",
         description=f"{base.description} {top.description}",
