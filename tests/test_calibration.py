@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from pathlib import Path
 
 import pint
@@ -422,7 +423,10 @@ def test_tag_filter_takes_tags_and_loops():
 def test_calibrate_text_and_bad_inputs(tmp_path):
     result = runner.invoke(app, ["calibrate", str(EXAMPLE), "--tag", "FT-1201", "--pressure-unit", "kPa"])
     assert result.exit_code == 0
-    assert "12.000 mA" in result.stdout and "6.25 kPa" in result.stdout  # 62.5 mbar = 6.25 kPa
+    # 62.5 mbar = 6.25 kPa (1 mbar = 0.1 kPa, SI); 25 % of DP span -> 12 mA on a root-extracting transmitter
+    # (docs/design.md §4: 50 % flow = 25 % DP = 12 mA): the row of the 25 % point, under its heads
+    assert re.search(r"Apply mbar\s*┃\s*Apply kPa\s*┃\s*Expect mA", result.stdout)
+    assert re.search(r"│\s+25 │\s+62\.5 │\s+6\.25 │\s+12\.000 │", result.stdout)
     assert "CAUTION" in result.stdout
     bad = runner.invoke(app, ["calibrate", str(EXAMPLE), "--pressure-unit", "mm"])
     assert bad.exit_code == 2 and "Traceback" not in bad.output

@@ -118,7 +118,7 @@ def test_thermocouple_columns_in_the_workbook(workbook_path):
 def test_dcs_scaling_and_ne43_are_written_for_the_technician(workbook_path):
     ws = openpyxl.load_workbook(workbook_path)["L-2101"]
     text = [str(c.value) for row in ws.iter_rows() for c in row if isinstance(c.value, str)]
-    assert any("ENTER IN THE CONTROL SYSTEM for LV-2101A" in t and "controller output 25 %" in t for t in text)
+    assert any("Enter in the control system for LV-2101A" in t and "controller output 25 %" in t for t in text)
     assert any(t.startswith("NAMUR NE 43") for t in text)
 
 

@@ -17,7 +17,9 @@ from pypdf import PdfReader, PdfWriter
 from loopdocs.checks import check_project
 from loopdocs.core.errors import InputError
 from loopdocs.core.findings import Acceptance, Finding, Severity
-from loopdocs.render.caltables import display_tables, distinct_points, fmt_number
+from loopdocs.calibration.presentation import distinct_points
+from loopdocs.core.formatting import fmt_number
+from loopdocs.render.caltables import display_tables
 from loopdocs.render.pdf import JsonAttachment, ProjectFetcher, html_to_pdf
 from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
 from loopdocs.render.pieces import loop_pieces
@@ -93,7 +95,7 @@ def test_calibration_tables_print_each_point_once_and_merge_loop_checks(example)
     # five points rising then falling (docs/design.md §7.2) are ten readings but five distinct rows
     source = next(t for t in tables if t.tag == "TT-3105")
     assert len(source.points) == 10 and len(tt.rows) == 5 == len(distinct_points(source.points))
-    check = next(t for t in shown if t.title == "loop check")
+    check = next(t for t in shown if t.title == "split-range loop check")
     assert check.tag == "TV-3105A, TV-3105B"
     # one positioner-split output (docs/design.md §4.3: I = 4 + 16 CO) feeds both: one signal column
     assert check.heads[:2] == ("% CO", "Signal mA")

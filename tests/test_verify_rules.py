@@ -184,7 +184,7 @@ def test_ip_converter_with_blank_accuracy_is_judged_on_one_percent_of_span(tmp_p
     titles = [c.value for ws in wb.worksheets[1:-1] for row in ws.iter_rows() for c in row
               if isinstance(c.value, str) and c.value.startswith("PY-104")]
     # 1 % of a 12 psig span (3-15 psig) = 0.12 psig; the basis is printed with it
-    assert any("+/-0.12 psig" in t and "1 % of span taken" in t and "I/P converter" in t for t in titles)
+    assert any("\u00b10.12 psig" in t and "1 % of span taken" in t and "I/P converter" in t for t in titles)
     f = Filler(path)
     f.set("PY-104/03", "As-Found", 9.10)  # +0.833 % of span: inside 1 %
     f.set("PY-104/04", "As-Found", 12.15)  # +1.25 %: outside

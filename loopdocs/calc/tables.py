@@ -226,31 +226,6 @@ class CalibrationTable:
 # --------------------------------------------------------------------------- helpers
 
 
-#: Decimals shown for signal and sensor units (calibrator resolution, common practice).
-_UNIT_DECIMALS = {"mA": 3, "mV": 3, "ohm": 3, "psig": 3, "kPa": 2, TRAVEL_UNIT: 1, CO_UNIT: 2}
-
-
-def display_decimals(span: float, unit: str, resolve: float | None = None) -> int:
-    """Decimals to show a value: fixed for signal and sensor units, else enough to
-    resolve 1/10 000 of the span (0 to 5); at least enough to show ``resolve`` (a
-    tolerance) to two significant digits.
-
-    >>> display_decimals(16.0, "mA"), display_decimals(45.0, "degC"), display_decimals(3200.0, "mm")
-    (3, 2, 0)
-    >>> display_decimals(2.5, "barg", resolve=0.0025)
-    4
-    """
-    if unit in _UNIT_DECIMALS:
-        decimals = _UNIT_DECIMALS[unit]
-    elif not span or not math.isfinite(span):
-        decimals = 3
-    else:
-        decimals = max(0, min(5, 3 - math.floor(math.log10(abs(span)))))
-    if resolve is not None and resolve > 0 and math.isfinite(resolve):
-        decimals = max(decimals, min(6, math.ceil(-math.log10(resolve)) + 1))
-    return decimals
-
-
 def ne43_note(levels: NE43Levels) -> str:
     """The NAMUR NE 43 levels in one line.
 

@@ -1,91 +1,49 @@
-"""Calibration tables for people: one terminal table per tag (rich).
+"""Calibration tables for people: one terminal table per view (rich).
 
-A point read rising and falling has the same expected values both ways, so each point
-is printed once; the workbook keeps both directions for the readings.
+The views are those of ``loopdocs.calibration.presentation`` (the loop sheet and the
+workbook show the same heads, numbers, tolerance and notes); a point read rising and
+falling has the same expected values both ways, so each point is printed once (the
+workbook keeps both directions for the readings), with the limits of its expected value.
 """
 
 from __future__ import annotations
 
-from loopdocs.calc.tables import CalibrationTable, Point, display_decimals, ne43_note
+from typing import Any
+
+from loopdocs.calibration.presentation import TableView, present_tables
 from loopdocs.calibration.project_tables import CalibrationSet
 
 
-def _num(value: float, unit: str, span: float = 0.0, resolve: float | None = None) -> str:
-    text = f"{value:.{display_decimals(span, unit, resolve)}f}"
-    return "0" + text[2:] if text.startswith("-0") and float(text) == 0 else text
+def rich_table(view: TableView) -> Any:
+    """The rich ``Table`` of one view: title (tag, kind, service, range), a column per
+    view column plus the limits, caption with the tolerance and the notes."""
+    from rich.markup import escape
+    from rich.table import Table
 
-
-def _sim_text(point: Point, span: float) -> str:
-    parts = []
-    for s in point.simulate:
-        label = f" (RJ {s.reference_junction_c:g} degC)" if s.reference_junction_c not in (None, 0.0) else ""
-        parts.append(f"{_num(s.value, s.unit, span)} {s.unit}{label}")
-    return "\n".join(parts)
-
-
-def table_rows(table: CalibrationTable) -> list[tuple[str, ...]]:
-    """Distinct points in order (the falling repeats of a rising point dropped)."""
-    rows, seen = [], set()
-    tol = table.tolerance.output.value if table.tolerance else None
-    in_span = abs(table.input_range[1].value - table.input_range[0].value)
-    out_span = table.output_span
-    for p in table.points:
-        key = (p.percent, p.input.value, p.output.value)
-        if key in seen:
-            continue
-        seen.add(key)
-        unit = p.output.unit
-        limits = (f"{_num(p.output.value - tol, unit, out_span, tol)} to {_num(p.output.value + tol, unit, out_span, tol)}"
-                  if tol is not None else "")
-        sim_span = in_span if p.simulate and p.simulate[0].unit == p.input.unit else 0.0
-        rows.append((f"{p.percent:g}", f"{_num(p.input.value, p.input.unit, in_span)} {p.input.unit}",
-                     _sim_text(p, sim_span), f"{_num(p.output.value, unit, out_span, tol)} {unit}", limits))
-    return rows
+    table = Table(title=escape(f"{view.title}  [{view.range_text}]"), title_justify="left", expand=False)
+    for column in view.columns:
+        table.add_column(escape(column.label), justify="right")
+    with_limits = any(low for low, _ in view.limits)
+    if with_limits:
+        table.add_column(f"Limits {view.limits_unit}", justify="right")
+    for row, (low, high) in zip(view.rows, view.limits):
+        table.add_row(*row, *([f"{low} to {high}"] if with_limits else []))
+    caption = [escape(f"tolerance {view.tolerance}")]
+    caption += [f"[bold]{escape(n.text)}[/]" if n.emphasis else escape(n.text) for n in view.notes]
+    table.caption = "\n".join(caption)
+    table.caption_justify = "left"
+    return table
 
 
 def print_calibration(cset: CalibrationSet) -> None:
     from rich.console import Console
-    from rich.table import Table
 
     from loopdocs.core.wording import CAUTION
 
     console = Console(highlight=False)
     console.print(f"[bold]{cset.project}[/] ({cset.index_path}): {len(cset.tables)} table(s)")
-    basis = {"final element": "% travel", "fail action": "% travel held", "loop check": "% CO"}
-    for t in cset.tables:
-        lo, hi = t.input_range
-        olo, ohi = t.output_range
-        title = f"{t.tag} {t.kind}" + (f": {t.service}" if t.service else "")
-        if t.kind == "fail action":
-            title += f"  (hold {lo.value:.4g} {lo.unit}, remove the air: valve travel {t.points[0].output.value:g} %)"
-        elif t.kind != "loop check":
-            title += f"  [{lo.value:g} to {hi.value:g} {lo.unit} -> {olo.value:g} to {ohi.value:g} {olo.unit}]"
-        table = Table(title=title, title_justify="left", expand=False)
-        table.add_column(basis.get(t.kind, "% span"), justify="right")
-        table.add_column("apply", justify="right")
-        table.add_column("simulate / signal", justify="right")
-        table.add_column("expect", justify="right")
-        table.add_column("limits", justify="right")
-        for row in table_rows(t):
-            table.add_row(*row)
-        caption = []
-        if t.tolerance:
-            tol = t.tolerance
-            caption.append(
-                f"tolerance {tol.percent_of_span:g} % of span"
-                + (f" = +/-{tol.input.value:.4g} {tol.input.unit}" if tol.input else "")
-                + f" = +/-{tol.output.value:.4g} {tol.output.unit} ({tol.basis})"
-            )
-        if t.ne43:
-            caption.append(ne43_note(t.ne43))
-        if t.dcs_scaling and t.kind == "final element":
-            sc = t.dcs_scaling
-            caption.append(f"control system: {sc.text()}")
-        caption += list(t.notes)
-        if caption:
-            table.caption = "\n".join(caption)
-            table.caption_justify = "left"
-        console.print(table)
+    for view in present_tables(cset.tables):
+        console.print(rich_table(view))
     if cset.skipped:
         console.print(f"[bold]{len(cset.skipped)} tag(s) without a table:[/]")
         for s in cset.skipped:

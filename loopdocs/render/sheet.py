@@ -33,7 +33,8 @@ from loopdocs.core.findings import Finding, Severity
 from loopdocs.core.wording import CAUTION
 from loopdocs.model.records import Loop, Tag
 from loopdocs.read.project_file import TitleBlock
-from loopdocs.render.caltables import display_tables, fmt_number, packing_order
+from loopdocs.core.formatting import fmt_number
+from loopdocs.render.caltables import display_tables, packing_order
 from loopdocs.render.settings import Revision, SheetSettings
 
 TEMPLATES_DIR = Path(__file__).resolve().parent.parent / "templates"

@@ -5,9 +5,12 @@ Layout (every value sheet, one per loop or per plant area):
 - rows 1 to 4: title (project, loop or area and service), index and revision, the
   caution (``report.CAUTION``), and cells for technician, date and calibrator;
 - row 6: the column header (frozen, repeated on every printed page);
-- per table: a shaded title row (tag, what is checked, range, tolerance), note rows
-  (NAMUR NE 43 levels, control-system scaling, square-root convention ...), then one
-  row per test point: Ref, Tag, Check, Point %, Dir, Apply, Simulate (ohm, mV, or
+- per table, all worded by ``loopdocs.calibration.presentation`` (as on the loop sheet
+  and the terminal): a shaded title row (tag, what is checked, service, range,
+  tolerance), note rows (NAMUR NE 43 levels, control-system scaling, square-root
+  convention ...), a row with the table's own heads and units over the columns they
+  head (``Apply degC``, ``Simulate ohm``, ``Expect mA``), then one row per test point
+  and direction, numbers shown with the view's decimals: Ref, Tag, Check, Point %, Dir, Apply, Simulate (ohm, mV, or
   the signal at the element), [Simulate at the site reference junction], Expected,
   Unit, Low limit, High limit, As-Found, As-Left, Remarks.
 
@@ -27,7 +30,15 @@ import re
 from pathlib import Path
 from typing import Any, Iterable
 
-from loopdocs.calc.tables import CalibrationTable, Point, display_decimals, ne43_note
+from loopdocs.calc.tables import CalibrationTable
+from loopdocs.calibration.presentation import (
+    CALIBRATOR_BASIS,
+    EXPECT,
+    SIMULATE as SIMULATE_ROLE,
+    APPLY,
+    TableView,
+    present_table,
+)
 from loopdocs.calibration.project_tables import CalibrationSet
 from loopdocs.calibration.workbook_record import (
     CHECK_NAMES,
@@ -45,16 +56,9 @@ FORMAT_TAG = "loopdocs calibration workbook 1"
 HEADER_ROW = 6
 #: Header of the column with what a calibrator sources (ohm, mV) or the signal an element receives.
 SIMULATE = "Simulate / signal"
+#: Header of the column with the input (or the DP) in the calibrator's unit (``calibrate --pressure-unit``).
+CALIBRATOR = "Apply, calibrator unit"
 FIRST_ROW = HEADER_ROW + 1
-
-POINT_BASIS = {
-    "transmitter": "% of span",
-    "sensor": "% of range",
-    "converter": "% of span",
-    "final element": "% travel",
-    "fail action": "% travel",
-    "loop check": "% CO",
-}
 
 RECORD_COLUMNS = (
     "ref", "sheet", "tag", "check", "loop", "percent", "direction", "apply", "apply_unit",
@@ -90,10 +94,6 @@ def _sheet_name(key: str, used: set[str]) -> str:
     return name
 
 
-def _decimals(span: float, unit: str, resolve: float | None = None) -> int:
-    return display_decimals(span, unit, resolve)
-
-
 def _number_format(decimals: int, unit: str = "") -> str:
     body = "0" if decimals == 0 else "0." + "0" * decimals
     if unit:
@@ -102,62 +102,30 @@ def _number_format(decimals: int, unit: str = "") -> str:
     return body
 
 
-def _title_text(table: CalibrationTable) -> str:
-    lo, hi = table.input_range
-    olo, ohi = table.output_range
-    what = {
-        "transmitter": "transmitter",
-        "sensor": "sensor on its own",
-        "converter": "signal converter",
-        "final element": "valve stroke",
-        "fail action": "fail action (remove the air supply)",
-        "loop check": "split-range loop check",
-    }.get(table.kind, table.kind)
-    parts = [f"{table.tag}  {what}"]
-    if table.service:
-        parts.append(table.service)
-    if table.kind == "loop check":
-        parts.append("expected valve travel at every 10 % of controller output")
-    elif table.kind == "fail action":
-        parts.append(f"expected valve travel {table.points[0].output.value:g} % after the air is removed")
-    else:
-        parts.append(f"{lo.value:g} to {hi.value:g} {lo.unit} -> {olo.value:g} to {ohi.value:g} {olo.unit}")
-    tol = table.tolerance
-    if tol is None:
-        parts.append("tolerance: none in the index")
-    else:
-        bits = [f"+/-{tol.percent_of_span:g} % of span"]
-        if tol.input is not None:
-            bits.append(f"+/-{tol.input.value:.4g} {tol.input.unit}")
-        bits.append(f"+/-{tol.output.value:.4g} {tol.output.unit}")
-        parts.append("tolerance " + " = ".join(bits) + (f" ({tol.basis})" if tol.basis != _INDEX_BASIS else ""))
+def _title_text(view: TableView) -> str:
+    """The shaded title row: tag and what is checked, service, range, tolerance (all from the view)."""
+    parts = [f"{view.tag}  {view.words}"]
+    if view.service:
+        parts.append(view.service)
+    parts += [view.range_text, f"tolerance {view.tolerance}"]
     return "  |  ".join(parts)
 
 
-#: The tolerance basis of a table whose Accuracy % is in the index (``calc.calibration.tolerance_of``).
-_INDEX_BASIS = "Accuracy % in the index"
-
-
-def _note_lines(table: CalibrationTable) -> list[str]:
-    lines = list(table.notes)
-    if table.ne43 is not None:
-        lines.append(ne43_note(table.ne43))
-    if table.dcs_scaling is not None and table.kind == "final element":
-        sc = table.dcs_scaling
-        lines.append(f"ENTER IN THE CONTROL SYSTEM for {table.tag}: {sc.text()}; positioner set to the full 4-20 mA")
-    return lines
-
-
-def _simulate_cells(point: Point, reference_junction_c: float | None) -> tuple[Any, str, Any]:
-    """(value, unit, value at the site reference junction) for the Simulate columns."""
-    main = value_rj = None
-    unit = ""
-    for sim in point.simulate:
-        if sim.reference_junction_c in (None, 0.0) and main is None:
-            main, unit = sim.value, sim.unit
-        elif reference_junction_c is not None and sim.reference_junction_c == reference_junction_c:
-            value_rj = sim.value
-    return main, unit, value_rj
+def _simulate_columns(view: TableView, reference_junction_c: float | None) -> dict[str, int]:
+    """Which of the view's simulated columns goes in which workbook column: ``main`` (the
+    Simulate / signal column), ``rj`` (at the site reference junction), ``calibrator``
+    (the input in the calibrator's unit); values are indexes into ``view.columns``."""
+    placed: dict[str, int] = {}
+    for i, column in enumerate(view.columns):
+        if column.role != SIMULATE_ROLE:
+            continue
+        if column.basis == CALIBRATOR_BASIS:
+            placed.setdefault("calibrator", i)
+        elif column.reference_junction_c in (None, 0.0):
+            placed.setdefault("main", i)
+        elif reference_junction_c is not None and column.reference_junction_c == reference_junction_c:
+            placed.setdefault("rj", i)
+    return placed
 
 
 # --------------------------------------------------------------------------- writing
@@ -181,13 +149,18 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     if sheet_per not in ("loop", "area"):
         raise ValueError(f"sheet_per must be loop or area, got {sheet_per!r}")
     rj = cset.reference_junction_c if cset.reference_junction_c not in (None, 0.0) else None
+    views = [present_table(table) for table in cset.tables]
+    placements = [_simulate_columns(view, rj) for view in views]
     columns = ["Ref", "Tag", "Check", "Point", "Dir", "Apply", SIMULATE]
     if rj is not None:
         columns.append(f"Simulate, RJ {rj:g} degC")
+    if any("calibrator" in placed for placed in placements):
+        columns.append(CALIBRATOR)
     columns += ["Expected", "Unit", "Low limit", "High limit", "As-Found", "As-Left", "Remarks"]
     col = {name: i + 1 for i, name in enumerate(columns)}
-    col_rj = col.get(f"Simulate, RJ {rj:g} degC") if rj is not None else None
-    widths = {"Ref": 12, "Tag": 12, "Check": 11, "Point": 9, "Dir": 8, "Apply": 14, SIMULATE: 13,
+    sim_col = {"main": col[SIMULATE], "rj": col.get(f"Simulate, RJ {rj:g} degC") if rj is not None else None,
+               "calibrator": col.get(CALIBRATOR)}
+    widths = {"Ref": 12, "Tag": 12, "Check": 11, "Point": 9, "Dir": 8, "Apply": 14, SIMULATE: 13, CALIBRATOR: 13,
               "Expected": 12, "Unit": 9, "Low limit": 11, "High limit": 11, "As-Found": 12, "As-Left": 12,
               "Remarks": 28}
     last_col = get_column_letter(len(columns))
@@ -206,9 +179,9 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     red = PatternFill("solid", fgColor="FFC7CE")
 
     # group tables into sheets, in the order the set gives them
-    groups: dict[str, list[CalibrationTable]] = {}
-    for table in cset.tables:
-        groups.setdefault(_sheet_key(table, cset, sheet_per), []).append(table)
+    groups: dict[str, list[tuple[CalibrationTable, TableView, dict[str, int]]]] = {}
+    for table, view, placed in zip(cset.tables, views, placements):
+        groups.setdefault(_sheet_key(table, cset, sheet_per), []).append((table, view, placed))
 
     used: set[str] = {CONTENTS_SHEET.lower(), RECORD_SHEET.lower()}
     issued: list[IssuedRow] = []
@@ -248,51 +221,61 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
         r = FIRST_ROW
         n_points = 0
         value_ranges: dict[tuple[float, float, str], list[str]] = {}
-        for table in tables:
-            ws.cell(r, 1, _title_text(table)).font = bold
+        for table, view, placed in tables:
+            ws.cell(r, 1, _title_text(view)).font = bold
             ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=len(columns))
             for c in range(1, len(columns) + 1):
                 ws.cell(r, c).fill = title_fill
             r += 1
-            for line in _note_lines(table):
-                error_mark = line.startswith("index has errors")
-                ws.cell(r, 2, line).font = Font(italic=True, bold=line.startswith("ENTER") or error_mark,
-                                                color="C00000" if error_mark else None)
+            for note in view.notes:
+                error_mark = note.emphasis == "error"
+                ws.cell(r, 2, note.text).font = Font(italic=True, bold=bool(note.emphasis),
+                                                     color="C00000" if error_mark else None)
                 ws.merge_cells(start_row=r, start_column=2, end_row=r, end_column=len(columns))
                 r += 1
+            # the view's heads with their units, over the columns they head
+            apply_col, expect_col = view.column(APPLY), view.column(EXPECT)
+            assert apply_col is not None and expect_col is not None
+            heads = {col["Point"]: view.percent_head, col["Apply"]: apply_col.label, col["Expected"]: expect_col.label}
+            for slot, index in placed.items():
+                if sim_col.get(slot) is not None:
+                    heads[sim_col[slot]] = view.columns[index].label  # type: ignore[index]
+            for c, text in heads.items():
+                cell = ws.cell(r, c, text)
+                cell.font = Font(italic=True, bold=True)
+                cell.alignment = Alignment(horizontal="right", wrap_text=True)
+            r += 1
             check = CHECK_NAMES.get(table.kind, table.kind)
-            in_dec = _decimals(abs(table.input_range[1].value - table.input_range[0].value), table.input_range[0].unit)
             tol = table.tolerance
-            out_dec = _decimals(table.output_span, table.output_range[0].unit, tol.output.value if tol else None)
-            for i, point in enumerate(table.points, start=1):
+            i_apply, i_expect = view.columns.index(apply_col), view.columns.index(expect_col)
+            for i, reading in enumerate(view.readings, start=1):
+                point = reading.point
                 ref = f"{table.tag}/{_REF_PREFIX.get(table.kind, '')}{i:02d}"
-                expected = point.output.value
-                low = expected - tol.output.value if tol else None
-                high = expected + tol.output.value if tol else None
-                sim, sim_unit, sim_rj = _simulate_cells(point, rj)
+                expected = reading.values[i_expect]
+                low, high = reading.low, reading.high
                 values = {
                     "Ref": ref, "Tag": table.tag, "Check": check, "Point": point.percent, "Dir": point.direction,
-                    "Apply": point.input.value, SIMULATE: sim, "Expected": expected, "Unit": point.output.unit,
+                    "Apply": reading.values[i_apply], "Expected": expected, "Unit": expect_col.unit,
                     "Low limit": low, "High limit": high,
                 }
                 for name_, value in values.items():
                     ws.cell(r, col[name_], value)
-                if col_rj is not None:
-                    ws.cell(r, col_rj, sim_rj)
-                    if sim_rj is not None:
-                        ws.cell(r, col_rj).number_format = _number_format(_decimals(0, sim_unit), sim_unit)
-                ws.cell(r, col["Point"]).number_format = '0" %"'
-                ws.cell(r, col["Apply"]).number_format = _number_format(in_dec, point.input.unit)
-                if sim is not None:
-                    ws.cell(r, col[SIMULATE]).number_format = _number_format(_decimals(0, sim_unit), sim_unit)
+                for slot, index in placed.items():
+                    c_sim = sim_col.get(slot)
+                    value = reading.values[index]
+                    if c_sim is not None and value is not None:
+                        ws.cell(r, c_sim, value).number_format = _number_format(
+                            view.columns[index].decimals, view.columns[index].unit)
+                ws.cell(r, col["Point"]).number_format = _number_format(view.percent_decimals, "%")
+                ws.cell(r, col["Apply"]).number_format = _number_format(apply_col.decimals, apply_col.unit)
                 for name_ in ("Expected", "Low limit", "High limit"):
-                    ws.cell(r, col[name_]).number_format = _number_format(out_dec)
+                    ws.cell(r, col[name_]).number_format = _number_format(expect_col.decimals)
                 for name_ in ("As-Found", "As-Left", "Remarks"):
                     cell = ws.cell(r, col[name_])
                     cell.protection = unlocked
                     cell.fill = input_fill
                     if name_ != "Remarks":
-                        cell.number_format = _number_format(out_dec)
+                        cell.number_format = _number_format(expect_col.decimals)
                 for c in range(1, len(columns) + 1):
                     ws.cell(r, c).border = box
                 span = table.output_span
