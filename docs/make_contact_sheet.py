@@ -11,6 +11,7 @@ import sys
 from html import escape
 from pathlib import Path
 
+from loopdocs.draw import devices
 from loopdocs.draw import symbols as lib
 from loopdocs.draw.symbols import Symbol, fmt_mm
 
@@ -127,18 +128,22 @@ def _bubble_matrix(y: float) -> tuple[list[str], float]:
 def _assemblies(y: float) -> tuple[list[str], float]:
     parts, y = _section(
         y,
-        "Stacked symbols (stack, control_valve)",
-        "Actuator port stem-bottom placed on the body's stem-top; drawn at 3x with the combined ports.",
+        "Stacked symbols (loopdocs.draw.devices: valve_symbol, thermowell_symbol)",
+        "Actuator port stem-bottom on the body's stem-top; element port head on the well's head; drawn at 3x.",
     )
     scale, col_w = 3.0, 90.0
     height = 0.0
-    for i, actuator in enumerate(lib.ACTUATORS):
-        symbol = lib.control_valve(actuator)
+    stacked = [(devices.valve_symbol(devices.BodyKind.GLOBE, a), f"valve {a.value}") for a in devices.ActuatorKind]
+    for kind in (devices.MeasuringKind.RTD, devices.MeasuringKind.THERMOCOUPLE):
+        entry = devices.MEASURING[kind]
+        stacked.append((devices.thermowell_symbol(entry.part, entry.inner), kind.value))
+    col_w = min(col_w, (SHEET_W_MM - 2 * MARGIN_MM - 20) / len(stacked))
+    for i, (symbol, caption) in enumerate(stacked):
         sx = MARGIN_MM + 20 + i * col_w
         parts.append(_scaled(symbol, sx, y + 2, scale))
         parts.extend(_annotations(symbol, sx, y + 2, scale))
         parts.append(_text(sx + symbol.width_mm * scale / 2, y + 2 + symbol.height_mm * scale + 6,
-                           f"control_valve(\"{actuator}\")", 2.2, "middle"))
+                           caption, 2.2, "middle"))
         height = max(height, symbol.height_mm * scale + 12)
     return parts, y + height + 2
 
@@ -220,7 +225,7 @@ def readme_md() -> str:
         "## Loading",
         "",
         "```python",
-        "from loopdocs.draw.symbols import load_symbol, all_symbols, instrument_bubble, control_valve, line_style",
+        "from loopdocs.draw.symbols import load_symbol, all_symbols, instrument_bubble, line_style",
         "",
         "tt = instrument_bubble(\"discrete\", \"field\")   # Symbol",
         "tt.width_mm, tt.height_mm, tt.ports[\"tag-func\"], tt.text_areas[\"tag-loop\"]",
@@ -280,9 +285,11 @@ def readme_md() -> str:
         _row(["behind-panel", "location-behind-panel", "one dashed line: auxiliary location, normally inaccessible (behind the panel)"]),
         _row(["aux-panel", "location-aux-panel", "two lines: auxiliary location, normally accessible to the operator"]),
         "",
-        "Control valves: `control_valve(actuator)` stacks `actuator-diaphragm` or `actuator-piston`",
-        "(port `stem-bottom`) on `valve-globe` (port `stem-top`); `stack(base, port, top, port)`",
-        "does the same for any pair.",
+        "Device symbols (elements, valve bodies, actuators, accessories) are chosen and placed by",
+        "the drawing vocabulary in `loopdocs/draw/devices.py`: `valve_symbol(body, actuator)` stacks",
+        "an actuator (port `stem-bottom`) on a body (port `stem-top`), `thermowell_symbol` an RTD or",
+        "thermocouple (port `head`) in the thermowell; `stack(base, port, top, port)` does the same",
+        "for any pair.",
         "",
         "## Line styles",
         "",
@@ -322,9 +329,11 @@ def readme_md() -> str:
         "2. Set `viewBox`, `width`, `height`, `<title>` (the name) and `<desc>` (one or two",
         "   sentences: what it is and how it is drawn; the table above is built from it).",
         "3. Draw inside a `<g fill=\"none\" stroke=\"#000000\" stroke-width=\"0.35\">` with the pens above.",
-        "4. Add the ports (and text areas) the layout will use, and list the required ones in",
-        "   `REQUIRED_PORTS` (and `REQUIRED_TEXT_AREAS`) in `loopdocs/draw/symbols.py`.",
-        "5. Run `.venv/bin/python symbols/make_contact_sheet.py`, look at `contact_sheet.svg`,",
+        "4. Add the ports (and text areas) the drawing will use. A device symbol gets an entry in",
+        "   the drawing vocabulary, `loopdocs/draw/devices.py` (its module docstring says how);",
+        "   a building block is listed in `BUILDING_BLOCK_PORTS` (and `REQUIRED_TEXT_AREAS`) in",
+        "   `loopdocs/draw/symbols.py`.",
+        "5. Run `.venv/bin/python docs/make_contact_sheet.py`, look at `contact_sheet.svg`,",
         "   then run `.venv/bin/python -m pytest -q tests/test_symbols.py` and commit the symbol,",
         "   the README and the contact sheet together.",
         "",

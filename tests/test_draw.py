@@ -21,6 +21,7 @@ from typer.testing import CliRunner
 
 from loopdocs.cli import app
 from loopdocs.core.names import MAX_NAME_CHARS, safe_filename, unique_filenames
+from loopdocs.draw import devices
 from loopdocs.draw import symbols as lib
 from loopdocs.draw.layout import SERVICE_WRAP_MM, TEXT_MM, LoopLayout, layout_loop, loop_text
 from loopdocs.draw.range_chart import chart_layout, split_groups_to_chart
@@ -116,7 +117,7 @@ def test_ports_used_exist_and_lines_join_symbols_only_at_ports(layouts):
         for s in layout.symbols:
             assert set(s.ports_used) <= set(s.symbol.ports), (loop_id, s.name)
             for part in s.symbol.name.split("+"):
-                assert set(lib.REQUIRED_PORTS[part]) <= set(lib.load_symbol(part).ports)
+                assert devices.required_ports()[part] <= set(lib.load_symbol(part).ports)
         # a line end inside a symbol's box must be one of its ports (never an offset)
         for line in layout.lines:
             for end in (line.points[0], line.points[-1]):

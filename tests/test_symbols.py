@@ -13,12 +13,14 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from loopdocs.draw import devices
 from loopdocs.draw import symbols as lib
 from loopdocs.draw.symbols import SVG_NS, SymbolError
 
 SYMBOLS_DIR = lib.symbols_dir()
 ALL_SVG_FILES = sorted(SYMBOLS_DIR.glob("*.svg"))
 SYMBOL_NAMES = lib.symbol_names()
+REQUIRED_PORTS = devices.required_ports()
 DRAWN = {"line", "circle", "rect", "polygon", "polyline", "path", "ellipse"}
 BUBBLE_CELLS = [(d, loc) for d in lib.BUBBLE_DISPLAYS for loc in lib.LOCATION_OVERLAYS]
 TOL_MM = 0.002
@@ -89,15 +91,20 @@ def test_file_is_svg_with_mm_viewbox(path: Path) -> None:
     assert root.get("height") == f"{lib.fmt_mm(height)}mm"
 
 
-def test_every_symbol_file_declares_its_ports_and_every_declared_symbol_exists() -> None:
-    assert set(SYMBOL_NAMES) == set(lib.REQUIRED_PORTS)
+def test_every_symbol_file_is_drawn_by_the_registry_or_is_a_building_block() -> None:
+    # No dead symbols: each file is a device symbol of some registry entry
+    # (loopdocs.draw.devices) or a listed building block (bubbles, overlays, terminals, marks).
+    used = {u.file for u in devices.symbol_uses()}
+    assert not used & set(lib.BUILDING_BLOCK_PORTS)
+    assert set(SYMBOL_NAMES) == used | set(lib.BUILDING_BLOCK_PORTS)
     assert set(lib.REQUIRED_TEXT_AREAS) <= set(SYMBOL_NAMES)
 
 
-@pytest.mark.parametrize("name", sorted(lib.REQUIRED_PORTS))
+@pytest.mark.parametrize("name", sorted(REQUIRED_PORTS))
 def test_required_ports_and_text_areas_present(name: str) -> None:
+    # every registry entry's symbol file exists with the ports its builder uses
     symbol = lib.load_symbol(name)
-    assert set(lib.REQUIRED_PORTS[name]) <= set(symbol.ports), name
+    assert REQUIRED_PORTS[name] <= set(symbol.ports), name
     assert set(lib.REQUIRED_TEXT_AREAS.get(name, ())) <= set(symbol.text_areas), name
     assert symbol.title == name
     assert len(symbol.description) > 20
@@ -256,14 +263,14 @@ def test_valve_body_is_a_bow_tie_meeting_at_the_stem() -> None:
     assert symbol.ports["stem-top"][0] == centre[0]
 
 
-@pytest.mark.parametrize("actuator", lib.ACTUATORS)
-def test_actuator_stacks_on_the_valve_stem(actuator: str) -> None:
+@pytest.mark.parametrize("actuator", list(devices.ActuatorKind))
+def test_actuator_stacks_on_the_valve_stem(actuator: devices.ActuatorKind) -> None:
     # Common practice: the actuator sits on the body's stem, above the body, stem vertical.
-    valve = lib.control_valve(actuator)
+    valve = devices.valve_symbol(devices.BodyKind.GLOBE, actuator)
     assert valve.ports["stem-top"] == valve.ports["stem-bottom"]
     assert valve.ports["signal"][1] < valve.ports["stem-bottom"][1] < valve.ports["inlet"][1]
     assert valve.ports["signal"][0] == valve.ports["centre"][0]
-    body, top = lib.load_symbol("valve-globe"), lib.load_symbol(f"actuator-{actuator}")
+    body, top = lib.load_symbol("valve-globe"), devices.ACTUATORS[actuator].symbol.load()
     assert valve.height_mm == pytest.approx(body.height_mm + top.height_mm)
     assert valve.markup.count("<polygon") == 2
 
@@ -454,7 +461,7 @@ def test_symbols_dir_can_be_overridden(tmp_path, monkeypatch) -> None:
 
 
 def test_symbol_def_and_placement_embed_in_a_document() -> None:
-    symbol = lib.control_valve("diaphragm")
+    symbol = devices.valve_symbol()
     document = (
         f'<svg xmlns="{SVG_NS}" viewBox="0 0 100 100"><defs>{symbol.symbol_def("cv")}</defs>'
         f'{symbol.svg_at(50, 50, port="inlet")}{symbol.svg_at(70, 50, port="inlet", rotate_deg=90)}</svg>'

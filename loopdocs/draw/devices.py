@@ -58,7 +58,7 @@ from loopdocs.draw.clusters import (
     stack_lines,
 )
 from loopdocs.draw.geometry import Drawing, PlacedSymbol, PlacedText, Point, SignalLine
-from loopdocs.draw.symbols import Symbol, load_symbol, stack
+from loopdocs.draw.symbols import BUILDING_BLOCK_PORTS, Symbol, load_symbol, stack
 from loopdocs.draw.text import ASCENT_EM
 from loopdocs.model.records import Tag
 from loopdocs.model.vocab import Sensor, Signal, SplitMethod
@@ -328,6 +328,15 @@ def symbol_uses() -> Iterator[SymbolUse]:
         yield c.symbol
 
 
+def required_ports() -> dict[str, frozenset[str]]:
+    """Every symbol file the drawing uses -- building blocks and device symbols -- with
+    the ports it relies on."""
+    ports: dict[str, set[str]] = {name: set(p) for name, p in BUILDING_BLOCK_PORTS.items()}
+    for use in symbol_uses():
+        ports.setdefault(use.file, set()).update(use.ports)
+    return {name: frozenset(p) for name, p in sorted(ports.items())}
+
+
 # --------------------------------------------------------------------------- stacked symbols
 
 
@@ -358,7 +367,7 @@ def valve_symbol(body: BodyKind = BodyKind.GLOBE, actuator: ActuatorKind = Actua
 def sensor_kind(sensor: Sensor) -> MeasuringKind:
     """An RTD or a thermocouple, drawn in a thermowell (common practice: a process
     temperature sensor is inserted in a well)."""
-    return MeasuringKind.THERMOWELL  # the element symbols follow in the next commit
+    return MeasuringKind.RTD if sensor.is_rtd else MeasuringKind.THERMOCOUPLE
 
 
 def measuring_kind(element: Tag, feeds_transmitter: bool) -> MeasuringKind:
@@ -370,7 +379,7 @@ def measuring_kind(element: Tag, feeds_transmitter: bool) -> MeasuringKind:
     if variable.startswith("F") and feeds_transmitter:
         return MeasuringKind.ORIFICE
     if variable.startswith("T"):
-        return MeasuringKind.THERMOWELL
+        return sensor_kind(element.sensor) if element.sensor is not None else MeasuringKind.THERMOWELL
     return MeasuringKind.GENERIC
 
 

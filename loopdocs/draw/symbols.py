@@ -51,26 +51,17 @@ LOCATION_OVERLAYS: Mapping[str, str | None] = MappingProxyType(
         "aux-panel": "location-aux-panel",
     }
 )
-ACTUATORS = ("diaphragm", "piston")
-
 BUBBLE_PORTS = ("centre", "left", "right", "top", "bottom", "tag-func", "tag-loop")
 TERMINAL_PORTS = ("wire-left", "wire-right", "label")
-ACTUATOR_PORTS = ("stem-bottom", "signal", "side-right")
 
-# Ports the layout code relies on, per symbol file. Every file in symbols/ must be listed.
-REQUIRED_PORTS: Mapping[str, tuple[str, ...]] = MappingProxyType(
+# The building blocks every diagram is made of (bubbles, location overlays, terminal units,
+# line marks) and the ports the drawing code relies on. Device symbols (elements, valve
+# bodies, actuators, accessories) are listed with their ports in the drawing vocabulary,
+# ``loopdocs.draw.devices``; every file in symbols/ is one or the other (tests/test_symbols.py).
+BUILDING_BLOCK_PORTS: Mapping[str, tuple[str, ...]] = MappingProxyType(
     {
         **{f"bubble-{d}": BUBBLE_PORTS for d in BUBBLE_DISPLAYS},
         **{overlay: ("centre",) for overlay in LOCATION_OVERLAYS.values() if overlay},
-        "valve-globe": ("inlet", "outlet", "centre", "stem-top"),
-        **{f"actuator-{a}": ACTUATOR_PORTS for a in ACTUATORS},
-        "positioner": ("signal-in", "air-out", "top", "bottom", "label"),
-        "ip-converter": ("signal-in", "air-out", "supply", "bottom"),
-        "element-thermowell": ("head", "tip", "flange-left", "flange-right"),
-        "element-rtd": ("wire-a", "wire-b", "wire-c", "tip"),
-        "element-thermocouple": ("plus", "minus", "tip"),
-        "element-orifice": ("upstream", "downstream", "tap-high", "tap-low"),
-        "element-generic": ("upstream", "downstream", "out"),
         "terminal-jb": TERMINAL_PORTS,
         "terminal-cabinet": TERMINAL_PORTS,
         "mark-pneumatic": ("centre",),
@@ -300,9 +291,9 @@ def stack(base: Symbol, base_port: str, top: Symbol, top_port: str) -> Symbol:
     The result is re-based so its box starts at 0, 0. Ports and text areas of both are
     kept; where a name is in both, the base's wins.
 
-    >>> v = stack(load_symbol("valve-globe"), "stem-top", load_symbol("actuator-diaphragm"), "stem-bottom")
+    >>> v = stack(load_symbol("valve-globe"), "stem-top", load_symbol("actuator-piston"), "stem-bottom")
     >>> v.name, v.height_mm, v.ports["stem-top"] == v.ports["stem-bottom"]
-    ('valve-globe+actuator-diaphragm', 17.0, True)
+    ('valve-globe+actuator-piston', 18.0, True)
     """
     bx, by = base.port(base_port)
     tx, ty = top.port(top_port)
@@ -352,14 +343,6 @@ def instrument_bubble(display: str, location: str) -> Symbol:
     if overlay is None:
         return bubble
     return stack(bubble, "centre", load_symbol(overlay), "centre")
-
-
-@lru_cache(maxsize=None)
-def control_valve(actuator: str = "diaphragm") -> Symbol:
-    """Globe valve body with the actuator (``ACTUATORS``) stacked on its stem."""
-    if actuator not in ACTUATORS:
-        raise ValueError(f"unknown actuator {actuator!r}; use one of {', '.join(ACTUATORS)}")
-    return stack(load_symbol("valve-globe"), "stem-top", load_symbol(f"actuator-{actuator}"), "stem-bottom")
 
 
 def mark_positions(points_mm: Sequence[Point], spacing_mm: float) -> list[tuple[float, float, float]]:
