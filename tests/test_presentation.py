@@ -318,3 +318,22 @@ def test_tolerance_text_and_derived_notes(cset):
     dcs = [present_table(t) for t in cset.tables if t.kind == "final element" and t.dcs_scaling is not None]
     assert dcs and all(v.notes[-1].emphasis == "action" and v.notes[-1].text.startswith("Enter in the control system")
                        for v in dcs)
+
+
+# --------------------------------------------------------------------------- one table of unit spellings
+
+
+def test_signal_unit_spellings_are_read_in_one_place():
+    # IEC 60382 / ANSI/ISA-50.00.01 pneumatic ranges: 3-15 psig, 20-100 kPa, 0.2-1.0 bar; a gauge
+    # and a plain spelling are the same signal (common practice).
+    from loopdocs.calc.signals import pneumatic_span
+    from loopdocs.calc.units import canonical_unit
+
+    assert (canonical_unit(" PSI "), canonical_unit("kPa g"), canonical_unit("BARG")) == ("psig", "kPa", "bar")
+    assert [pneumatic_span(u).high for u in ("psi", "kPag", "barg")] == [15.0, 100.0, 1.0]
+    with pytest.raises(ValueError, match="no standard pneumatic span"):
+        pneumatic_span("mbar")
+    # no other module keeps its own table of signal-unit spellings
+    spelled = [p.relative_to(REPO).as_posix() for p in (REPO / "loopdocs").rglob("*.py")
+               if re.search(r"""["']kpag["']\s*:""", p.read_text(encoding="utf-8"))]
+    assert spelled == ["loopdocs/calc/units.py"]

@@ -36,7 +36,7 @@ from drawing_helpers import (  # noqa: E402
     write_xlsx,
 )
 from loopdocs.draw.range_chart import spread_centres  # noqa: E402
-from loopdocs.model.groups import fmt_pct  # noqa: E402
+from loopdocs.core.formatting import fmt_pct  # noqa: E402
 
 REPO = Path(__file__).resolve().parents[1]
 EXAMPLE = REPO / "project_example"

@@ -11,6 +11,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from loopdocs.calc.units import canonical_unit
+
 
 @dataclass(frozen=True)
 class SignalSpan:
@@ -49,14 +51,8 @@ KPA_20_100 = SignalSpan(20.0, 100.0, "kPa")
 #: 0.2 to 1.0 bar (gauge) pneumatic, IEC 60382 (the same range as 20 to 100 kPa).
 BAR_02_10 = SignalSpan(0.2, 1.0, "bar")
 
-_PNEUMATIC_BY_UNIT: dict[str, SignalSpan] = {
-    "psig": PSIG_3_15,
-    "psi": PSIG_3_15,
-    "kpa": KPA_20_100,
-    "kpag": KPA_20_100,
-    "bar": BAR_02_10,
-    "barg": BAR_02_10,
-}
+#: Standard pneumatic span by signal unit (spellings read by ``calc.units.canonical_unit``).
+_PNEUMATIC_BY_UNIT: dict[str, SignalSpan] = {"psig": PSIG_3_15, "kPa": KPA_20_100, "bar": BAR_02_10}
 
 
 def pneumatic_span(unit: str) -> SignalSpan:
@@ -68,11 +64,10 @@ def pneumatic_span(unit: str) -> SignalSpan:
     >>> pneumatic_span("PSIG")
     SignalSpan(low=3.0, high=15.0, unit='psig')
     """
-    key = unit.strip().lower().replace(" ", "")
     try:
-        return _PNEUMATIC_BY_UNIT[key]
+        return _PNEUMATIC_BY_UNIT[canonical_unit(unit)]
     except KeyError:
-        known = ", ".join(sorted(_PNEUMATIC_BY_UNIT))
+        known = "psi or psig, kPa or kPag, bar or barg"
         raise ValueError(f"no standard pneumatic span for unit {unit!r} (known: {known})") from None
 
 

@@ -58,6 +58,27 @@ _WRITTEN = {
 }
 
 
+#: Signal units as an index writes them, lower case without spaces -> the signal unit
+#: meant: a gauge and a plain pressure unit are the same instrument signal (3-15 psi is
+#: 3-15 psig). The one table of signal-unit spellings (``canonical_unit``).
+_SIGNAL_UNITS = {
+    "ma": "mA", "psi": "psig", "psig": "psig", "kpa": "kPa", "kpag": "kPa",
+    "bar": "bar", "barg": "bar", "mbar": "mbar", "mbarg": "mbar",
+}
+
+
+@cache
+def canonical_unit(text: str) -> str:
+    """The signal unit a cell means; gauge and plain pressure units are the same signal.
+    Other units come back as written (stripped). Needs no pint.
+
+    >>> canonical_unit(" PSI "), canonical_unit("kPag"), canonical_unit("barg"), canonical_unit("ma")
+    ('psig', 'kPa', 'bar', 'mA')
+    """
+    key = str(text).strip().lower().replace(" ", "").replace("(g)", "g")
+    return _SIGNAL_UNITS.get(key, str(text).strip())
+
+
 @cache
 def registry() -> Any:
     """The one pint ``UnitRegistry`` of loopdocs, with the trade units added (built once)."""

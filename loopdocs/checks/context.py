@@ -13,7 +13,8 @@ from dataclasses import dataclass
 from typing import Callable, Iterable, Iterator
 
 from loopdocs.core.findings import Finding, Location, Severity
-from loopdocs.model.groups import SplitElement, SplitGroup, fmt_pct, groups_for
+from loopdocs.core.formatting import fmt_pct
+from loopdocs.model.groups import SplitElement, SplitGroup, groups_for
 from loopdocs.model.records import Project
 
 NOT_VERIFIED = "check.not-verified"

@@ -57,7 +57,8 @@ from loopdocs.checks.context import (
     travel_text,
 )
 from loopdocs.core.findings import Finding, Severity
-from loopdocs.model.groups import INTENT_FROM_SETTINGS, SplitElement, fmt_pct, fmt_range
+from loopdocs.core.formatting import fmt_pct, fmt_range
+from loopdocs.model.groups import INTENT_FROM_SETTINGS, SplitElement
 from loopdocs.model.tagname import TagKind
 
 #: Gaps and overlaps narrower than this, % CO, are rounding, not design.

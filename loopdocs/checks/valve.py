@@ -28,9 +28,11 @@ from typing import Iterator
 
 from loopdocs.calc.signals import SignalSpan, pneumatic_span
 from loopdocs.calc.travel import spring_fail_travel_pct, travel_on_signal_loss_pct
+from loopdocs.calc.units import canonical_unit
 from loopdocs.checks.context import Context, Unverified, capped, defaults_used, group_tags, segment_text, travel_text
 from loopdocs.core.findings import Finding, Severity
-from loopdocs.model.groups import SplitElement, SplitGroup, canonical_unit, fmt_pct, fmt_range, span_of_signal
+from loopdocs.core.formatting import fmt_pct, fmt_range
+from loopdocs.model.groups import SplitElement, SplitGroup, span_of_signal
 from loopdocs.model.records import Tag
 from loopdocs.model.tagname import TagKind
 from loopdocs.model.vocab import AirAction, ControlAction, FailPosition

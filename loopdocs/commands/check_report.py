@@ -55,7 +55,7 @@ def print_check(checked: Checked) -> None:
 
 
 def _method_text(group: Any) -> str:
-    from loopdocs.model.groups import fmt_range
+    from loopdocs.core.formatting import fmt_range
 
     spans = {e.span for e in group.elements}
     span = next(iter(spans)) if len(spans) == 1 else None
@@ -72,7 +72,7 @@ def _method_text(group: Any) -> str:
 
 def _settings_cells(e: Any) -> tuple[str, str]:
     """(as set, what loopdocs recommends) for one element of a split."""
-    from loopdocs.model.groups import fmt_pct, fmt_range
+    from loopdocs.core.formatting import fmt_pct, fmt_range
 
     now = fmt_range(*e.input_range, e.input_units) if e.input_range else "not given"
     if e.required_input_range is None:
@@ -92,7 +92,7 @@ def print_splits(console: Any, checked: Checked) -> None:
     """A summary per split group: arrangement, segments, gaps and overlaps, settings."""
     from rich.table import Table
 
-    from loopdocs.model.groups import fmt_pct
+    from loopdocs.core.formatting import fmt_pct
 
     splits = [group for group in checked.splits if group.is_split]
     if not splits:

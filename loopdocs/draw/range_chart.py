@@ -40,7 +40,8 @@ from loopdocs.draw.geometry import (
 )
 from loopdocs.core.findings import Finding, Severity
 from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm
-from loopdocs.model.groups import SplitElement, SplitGroup, fmt_pct, fmt_signal
+from loopdocs.core.formatting import fmt_pct, fmt_signal
+from loopdocs.model.groups import SplitElement, SplitGroup
 
 CHART_WIDTH_MM = 180.0
 CHART_HEIGHT_MM = 110.0

@@ -69,8 +69,9 @@ Public API
     Converts an input-range value between signal units (mA; psi = psig, kPa = kPag,
     bar = barg, mbar, any pressure unit pint knows). Same units never import pint.
 
-Helpers for messages and sheets: ``span_of_signal(signal)`` (index Signal -> span),
-``canonical_unit``, ``fmt_pct``, ``fmt_signal``, ``fmt_range``.
+``span_of_signal(signal)`` (index Signal -> span). Units are read with
+``loopdocs.calc.units.canonical_unit``; numbers in messages are written with
+``loopdocs.core.formatting`` (``fmt_pct``, ``fmt_signal``, ``fmt_range``).
 """
 
 from __future__ import annotations
@@ -103,27 +104,13 @@ from loopdocs.calc.travel import (
     required_input_range,
     uncovered_co,
 )
+from loopdocs.calc.units import canonical_unit
+from loopdocs.core.formatting import fmt_pct, fmt_range, fmt_signal
 from loopdocs.model.records import Project, Tag
 from loopdocs.model.tagname import TagKind
 from loopdocs.model.vocab import Characteristic, Signal
 
 # --------------------------------------------------------------------------- units
-
-_UNIT_ALIASES = {
-    "ma": "mA", "psi": "psig", "psig": "psig", "kpa": "kPa", "kpag": "kPa",
-    "bar": "bar", "barg": "bar", "mbar": "mbar", "mbarg": "mbar",
-}
-
-
-@lru_cache(maxsize=256)
-def canonical_unit(text: str) -> str:
-    """The signal unit a cell means; gauge and plain pressure units are the same signal.
-
-    >>> canonical_unit(" PSI "), canonical_unit("kPag"), canonical_unit("barg"), canonical_unit("ma")
-    ('psig', 'kPa', 'bar', 'mA')
-    """
-    key = str(text).strip().lower().replace(" ", "").replace("(g)", "g")
-    return _UNIT_ALIASES.get(key, str(text).strip())
 
 
 class UnknownUnit(ValueError):
@@ -173,34 +160,6 @@ def span_of_signal(signal: Signal | None) -> SignalSpan | None:
     if signal is Signal.KPA_20_100:
         return KPA_20_100
     return None
-
-
-# --------------------------------------------------------------------------- formatting
-
-
-def fmt_pct(value: float) -> str:
-    """A percentage for a message: at most two decimals, no trailing zeros.
-
-    >>> fmt_pct(50.0), fmt_pct(8.333333), fmt_pct(11.5)
-    ('50', '8.33', '11.5')
-    """
-    text = f"{value:.2f}".rstrip("0").rstrip(".")
-    return "0" if text in ("-0", "") else text
-
-
-def fmt_signal(value: float, unit: str) -> str:
-    """A signal value with the decimals its unit is read to (mA, psig 2; kPa 1; bar 3).
-
-    >>> fmt_signal(11.68, "mA"), fmt_signal(20, "kPa"), fmt_signal(0.2, "bar")
-    ('11.68', '20.0', '0.200')
-    """
-    decimals = {"kPa": 1, "bar": 3, "mbar": 1}.get(canonical_unit(unit), 2)
-    return f"{value:.{decimals}f}"
-
-
-def fmt_range(low: float, high: float, unit: str) -> str:
-    """``'12.00 to 20.00 mA'``."""
-    return f"{fmt_signal(low, unit)} to {fmt_signal(high, unit)} {unit}"
 
 
 # --------------------------------------------------------------------------- records
