@@ -32,7 +32,30 @@ def test_alarm_signals_and_directions():
     t = alarm_table("PT-3", [("LL", 1.0), ("L", 2.0), ("H", 8.0), ("HH", 9.0)], 0.0, 10.0, "barg", accuracy_pct=0.5)
     assert [(p.direction, round(p.input.value, 9), p.output.value) for p in t.points] == [
         ("down", 5.6, 1.0), ("down", 7.2, 2.0), ("up", 16.8, 8.0), ("up", 18.4, 9.0)]
-    assert t.tolerance.output.value == pytest.approx(0.05)
+    assert t.tolerance.output.value == pytest.approx(0.05) and t.tolerance.input.value == pytest.approx(0.08)
     # 3-15 psig (ANSI/ISA-50.00.01): 80 % -> 12.6 psig
     p = alarm_table("PT-4", [("H", 8.0)], 0.0, 10.0, "barg", PSIG_3_15).points[0]
     assert (round(p.input.value, 9), p.input.unit) == (12.6, "psig")
+
+
+def test_switch_and_alarm_tables_from_the_index(index_files):
+    from loopdocs.calibration.project_tables import calibration_set
+    from loopdocs.model.loading import load_project
+
+    rows = [
+        {"tag": "PSH-501", "signal": "discrete", "set_point": 5, "reset": 4.5, "units": "barg",
+         "range_low": 0, "range_high": 10, "accuracy_pct": 1},
+        {"tag": "PSL-502", "signal": "discrete", "set_point": 2, "units": "barg"},
+        {"tag": "PSH-503", "signal": "discrete", "set_point": 2},
+        {"tag": "PT-504", "signal": "4-20 mA", "range_low": 0, "range_high": 10, "units": "barg",
+         "accuracy_pct": 0.5, "alarm_h": 8, "alarm_hh": 9},
+    ]
+    cset = calibration_set(load_project(index_files.write(rows))[0])
+    by = {(t.tag, t.kind): t for t in cset.tables}
+    assert [(p.direction, p.output.value) for p in by[("PSH-501", "switch")].points] == [("up", 5.0), ("down", 4.5)]
+    assert [(p.direction, p.output.value) for p in by[("PSL-502", "switch")].points] == [("down", 2.0)]
+    assert "without Units" in {s.tag: s.reason for s in cset.skipped}["PSH-503"]
+    # the transmitter keeps its five-point table and gets an alarm table: H 8 barg at 16.8 mA
+    assert ("PT-504", "transmitter") in by
+    alarm = by[("PT-504", "alarm")]
+    assert [(round(p.input.value, 9), p.output.value) for p in alarm.points] == [(16.8, 8.0), (18.4, 9.0)]

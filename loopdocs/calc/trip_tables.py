@@ -24,7 +24,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from loopdocs.calc.signals import MA_4_20, SignalSpan, signal_at_fraction
-from loopdocs.calc.tables import CalibrationTable, Point, Quantity, Simulated, tolerance_of
+from loopdocs.calc.tables import CalibrationTable, Point, Quantity, tolerance_of
 
 #: Direction an alarm is approached from: highs from below, lows from above.
 ALARM_DIRECTION = {"LL": "down", "L": "down", "H": "up", "HH": "up"}
@@ -97,16 +97,23 @@ def alarm_table(
             applied = Quantity(signal_at_fraction(output, fraction), output.unit)
         else:
             applied = Quantity(setting, unit)
-        points.append(Point(100.0 * fraction, applied, Quantity(setting, unit), ALARM_DIRECTION[name],
-                            (Simulated(setting, unit, f"alarm {name}"),)))
-    notes = ["inject the signal at the input (or move the process value) slowly through each setting from the "
-             "normal side; write the value at which the alarm came in, read on the host"]
+        points.append(Point(100.0 * fraction, applied, Quantity(setting, unit), ALARM_DIRECTION[name]))
+    settings = ", ".join(f"{name} {setting:g}" for name, setting in alarms)
+    notes = [f"alarms {settings} {unit}: inject the signal at the input (or move the process value) slowly through "
+             "each setting from the normal side; write the value at which the alarm came in, read on the host"]
+    if output is not None:
+        input_range = (Quantity(output.low, output.unit), Quantity(output.high, output.unit))
+        tolerance = None if accuracy_pct is None else tolerance_of(
+            accuracy_pct, output.width, output.unit, abs(urv - lrv), unit)
+    else:
+        input_range = (Quantity(lrv, unit), Quantity(urv, unit))
+        tolerance = _range_tolerance((lrv, urv), accuracy_pct, unit)
     return CalibrationTable(
         tag=tag,
         kind="alarm",
         points=tuple(points),
-        tolerance=_range_tolerance((lrv, urv), accuracy_pct, unit),
-        input_range=(Quantity(lrv, unit), Quantity(urv, unit)),
+        tolerance=tolerance,
+        input_range=input_range,
         output_range=(Quantity(lrv, unit), Quantity(urv, unit)),
         notes=tuple(notes),
     )

@@ -285,10 +285,42 @@ def _converter_with_tolerance(tag: Tag, in_span: SignalSpan, out_span: SignalSpa
     return replace(table, tolerance=replace(table.tolerance, basis=CONVERTER_TOLERANCE_BASIS))
 
 
+def switch_for(tag: Tag) -> CalibrationTable | Skipped:
+    """The set-point test of a switch (``calc.trip_tables.switch_table``); its Range, when
+    given, is the adjustable range the tolerance is taken on."""
+    from loopdocs.calc.trip_tables import switch_table
+    from loopdocs.checks.alarms import switch_direction
+
+    if not tag.units:
+        return Skipped(tag.tag, f"Set Point {tag.set_point:g} without Units: the trip value is not known", tag.loop)
+    range_lh = (tag.range_low, tag.range_high) if tag.has_range and tag.range_low != tag.range_high else None
+    table = switch_table(tag.tag, tag.set_point, tag.reset, tag.units or "", switch_direction(tag), range_lh,
+                         tag.accuracy_pct)
+    notes = [] if table.tolerance is not None else ["Range or Accuracy % blank: no tolerance, the trip value cannot be judged"]
+    return table.with_context(loop=tag.loop, service=tag.service or "", notes=notes)
+
+
+def alarms_for(tag: Tag) -> CalibrationTable | Skipped | None:
+    """The alarm test of a transmitter with alarm settings (``calc.trip_tables.alarm_table``);
+    ``None`` without alarms; refused without a range to place them on."""
+    from loopdocs.calc.trip_tables import alarm_table
+    from loopdocs.checks.alarms import ALARMS
+
+    given = [(header.split()[-1], getattr(tag, key)) for key, header in ALARMS if getattr(tag, key) is not None]
+    if not given:
+        return None
+    if not tag.has_range or tag.range_low == tag.range_high or not tag.units:
+        return Skipped(tag.tag, "alarm settings without a range and units to place them on", tag.loop)
+    span, reason = output_span(tag.signal)
+    table = alarm_table(tag.tag, given, tag.range_low, tag.range_high, tag.units, span if not reason else None,
+                        tag.accuracy_pct)
+    return table.with_context(loop=tag.loop, service=tag.service or "")
+
+
 _NOT_CALIBRATED = {
     TagKind.CONTROLLER: "controller: configured in the control system, not calibrated in the field",
     TagKind.INDICATOR: "indicator: checked with its transmitter's loop",
-    TagKind.SWITCH: "switch: set point test, not a five-point calibration",
+    TagKind.SWITCH: "switch without a Set Point in the index: no set-point test",
     TagKind.ALARM: "alarm: configured in the control system",
     TagKind.OTHER: "function letters without a calibration kind",
 }
@@ -316,6 +348,12 @@ def calibration_set(
         result: CalibrationTable | Skipped
         if tag.kind is TagKind.TRANSMITTER:
             result = transmitter_for(tag, reference_junction_c, calibrator_unit)
+            alarms = alarms_for(tag)
+            if alarms is not None:
+                (skipped if isinstance(result, Skipped) else tables).append(result)  # type: ignore[arg-type]
+                result = alarms
+        elif tag.kind is TagKind.SWITCH and tag.set_point is not None:
+            result = switch_for(tag)
         elif tag.kind is TagKind.ELEMENT:
             result = sensor_for(tag)
         elif tag.kind is TagKind.RELAY:

@@ -18,6 +18,8 @@ CHECK_NAMES = {
     "converter": "converter",
     "final element": "stroke",
     "fail action": "fail action",
+    "switch": "set point",
+    "alarm": "alarm",
     "loop check": "loop check",
 }
 
