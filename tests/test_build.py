@@ -102,7 +102,7 @@ def test_example_package_metadata_and_drawing_list(example_build):
 def test_example_sheets_carry_tags_and_calibration_values(example_build):
     text = "\n".join(p.extract_text() for p in PdfReader(example_build.loop_files["L-2101"]).pages)
     # LT-2101 0 to 3200 mm on 4-20 mA: 50 % = 1600 mm -> 12 mA (docs/design.md §6.1: I = 4 + 16 p)
-    assert "LT-2101" in text and re.search(r"1600\s+12\.000", text)
+    assert "LT-2101" in text and re.search(r"(?<![\d.])1600\s+12\.000(?!\d)", text)
     per_loop = PdfReader(example_build.loop_files["T-3105"])
     assert per_loop.metadata.title == "KCB-LS-T-3105 loop T-3105"
     assert per_loop.metadata.author == "loopdocs"

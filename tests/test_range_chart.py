@@ -167,7 +167,8 @@ def test_combined_capacity_curve(charts):
 def test_capacity_split_is_reported(charts):
     # Cv 10 and 30 staged on one stream: boundary in proportion to Cv at 25 % (docs/design.md §6.9)
     sub = next(t.text for t in charts["LIC-2101"][1].texts if t.role == "subtitle")
-    assert "25 % CO (as set)" in sub and "1.00" in sub
+    assert "25 % CO (as set)" in sub and "gain ratio across the boundary 1.00" in sub
+    assert not any(ch.isdigit() for ch in sub.split("boundary 1.00", 1)[1][:1])  # 1.00, not 1.005
 
 
 def test_findings_on_the_group_are_marked(tmp_path):

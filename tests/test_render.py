@@ -77,11 +77,12 @@ def test_sheet_shows_title_block_tags_and_calibration_values(t3105_pdf, example)
         assert expected in text, expected
     # TT-3105, -5 to 40 degC on 4-20 mA: 25 % of span = 6.25 degC -> 4 + 16 * 0.25 = 8 mA
     # (docs/design.md §6.1, I = 4 + 16 p); Pt100 at 40 degC = 115.54 ohm (IEC 60751 table, from memory).
-    assert re.search(r"6\.25\s+102\.440\s+8\.000", text)
-    assert "115.541" in text
+    # numbers anchored: 8.000 must not match inside 8.0001, 115.541 not inside 1115.5410
+    assert re.search(r"(?<![\d.])6\.25\s+102\.440\s+8\.000(?!\d)", text)
+    assert re.search(r"(?<![\d.])115\.541(?!\d)", text)
     # TV-3105A: ATC, direct positioner, input 4 to 11.68 mA: 50 % travel at u = 0.5,
     # I = 4 + 0.5 * 7.68 = 7.840 mA (docs/design.md §4.3).
-    assert re.search(r"7\.840\s+50\.0", text)
+    assert re.search(r"(?<![\d.])7\.840\s+50\.0(?!\d)", text)  # 50.0: travel to 0.1 %, not 50.00
     # the cautions (docs/design.md §8.3, README)
     assert "Isolate and verify" in text and "confirmed against the issued design" in text
 

@@ -469,7 +469,7 @@ def test_positioners_in_series_exceed_the_output(index_files):
     f = only(index_files.check(rows), "loop.load")
     assert (f.severity.value, f.tags, index_files.where(f)) == (
         "error", ("TIC-101", "TV-101A", "TV-101B"), index_files.cell("loop_volts", 0))
-    assert "TV-101A 12.00 V + TV-101B 12.00 V = 24.00 V" in f.message and "22.00 V" in f.message
+    assert "TV-101A 12.00 V + TV-101B 12.00 V = 24.00 V" in f.message and " 22.00 V" in f.message
 
 
 def test_positioners_in_series_within_the_output(index_files):

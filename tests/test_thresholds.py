@@ -1,0 +1,324 @@
+"""Every tolerance, decimals rule and threshold of the checks and tables, tested at its
+boundary: a value just inside gives one behaviour, a value just outside the other, so a
+change of the constant (5 -> 10 %, 1 -> 5 %, 1 -> 2 decimals ...) makes a test fail.
+Nothing here reads the constant itself; each case is written from its source.
+
+Sources, as cited beside each test:
+- docs/design.md §4.2: CO starts and ends within 5 % CO make a shared range (one stream
+  split between parallel or opposed valves); further apart, staged;
+- docs/design.md §4.4: realised valve travel must match the intended travel within 1 %
+  of travel; the same 1 % is the default stroke-check tolerance (common practice) and the
+  range chart draws the intent beside the settings only when they differ by more;
+- docs/design.md §5.6: gap/overlap narrower than 0.01 % CO is rounding, not a finding;
+  gain ratio across a staged boundary outside 0.5 to 2 is a jump (common practice);
+- 4 to 20 mA loop sized for 22 mA (NAMUR NE 43 puts failure at >= 21 mA; 22 mA is
+  common practice for the top of a transmitter's saturation);
+- I = 4 + 16 p for 4-20 mA (IEC 60381-1); 3 to 15 psig pneumatic (IEC 60382);
+- display decimals: the resolution a process calibrator reads (common practice): mA,
+  psig, mV and ohm to 0.001, kPa to 0.01, valve travel to 0.1 %, controller output to
+  0.01 %;
+- Pt100 limits -200 to 850 degC (IEC 60751 table range);
+- a reading exactly at its tolerance passes (common practice: limits are inclusive).
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from loopdocs.calc.travel import Intent, classify
+from loopdocs.cli import app
+from loopdocs.sheets.index_template import write_index_workbook
+
+runner = CliRunner()
+
+CTRL = {"tag": "TIC-801", "platform": "dcs", "signal": "4-20 mA", "control_action": "reverse"}
+
+
+def number(value: str) -> str:
+    """A regex for ``value`` as a whole number: not part of a longer one (``50.0`` does not
+    match in ``50.00`` or ``150.0``)."""
+    return r"(?<![\d.])" + re.escape(value) + r"(?![\d])"
+
+
+def of(result, rule: str) -> list:
+    return [f for f in result.findings if f.rule == rule]
+
+
+def valve(tag: str, co: tuple[float, float], travel: tuple[float, float], inputs: tuple[float, float], **extra) -> dict:
+    """A positioner-split valve on TIC-801's 4-20 mA output: one that opens as CO rises is
+    ATO and raises the temperature (heating), one that closes is ATC and lowers it (cooling),
+    which suits a reverse-acting controller."""
+    air = "ATO" if travel[1] > travel[0] else "ATC"
+    return {"tag": tag, "signal": "4-20 mA", "air_action": air, "fail_position": "FC" if air == "ATO" else "FO",
+            "positioner_action": "direct", "driven_by": CTRL["tag"], "split_method": "positioner",
+            "co_start_pct": co[0], "co_end_pct": co[1], "travel_start_pct": travel[0],
+            "travel_end_pct": travel[1], "input_low": inputs[0], "input_high": inputs[1], "input_units": "mA",
+            "effect": "raises" if air == "ATO" else "lowers", **extra}
+
+
+# --------------------------------------------------------------------------- shared ranges: 5 % CO
+
+
+@pytest.mark.parametrize("offset_pct, ranges", [(4.9, "shared"), (5.1, "staged")])
+def test_shared_range_tolerance_5_pct_co(offset_pct, ranges):
+    # docs/design.md §4.2: starts and ends within 5 % CO of each other are one shared range
+    # (two valves on the same stream move together: parallel); 5.1 % apart they are staged.
+    arrangement = classify([Intent(0, 100, 0, 100), Intent(offset_pct, 100 + offset_pct, 0, 100)])
+    assert arrangement.pairs[0].ranges == ranges
+    assert arrangement.mode == ("parallel" if ranges == "shared" else "staged")
+
+
+@pytest.mark.parametrize("offset_pct, mode", [(4.9, "opposed"), (5.1, "staged-opposed")])
+def test_shared_range_tolerance_through_the_index(index_files, offset_pct, mode):
+    # docs/design.md §4.2, through a real workbook: a closing and an opening valve whose CO
+    # ranges differ by 4.9 % are opposed on one shared range, by 5.1 % staged-opposed.
+    end = 100 - offset_pct
+    rows = [CTRL, valve("TV-801A", (0, end), (100, 0), (4, 4 + 0.16 * end)),
+            valve("TV-801B", (offset_pct, 100), (0, 100), (4 + 0.16 * offset_pct, 20))]
+    assert index_files.check(rows).splits[0].mode == mode
+
+
+@pytest.mark.parametrize("co_end_pct, orphan", [(95.1, False), (94.9, True)])
+def test_single_valve_on_part_of_the_co_is_an_orphan_beyond_5_pct(index_files, co_end_pct, orphan):
+    # docs/design.md §4.2: one valve alone on a controller over CO 0 to 95.1 % is within the
+    # 5 % CO tolerance of the full range (not a split); over 0 to 94.9 % it is a split range
+    # that lost its partner (split.orphan).
+    rows = [CTRL, valve("TV-801A", (0, co_end_pct), (0, 100), (4, 4 + 0.16 * co_end_pct))]
+    assert bool(of(index_files.check(rows), "split.orphan")) is orphan
+
+
+# --------------------------------------------------------------------------- travel: 1 % of travel
+
+# TV-802B strokes 0 -> 100 % over CO 52 to 100 %, so it needs 12.32 to 20 mA
+# (I = 4 + 16 * 0.52, IEC 60381-1). Set to start at 12.32 + d mA it stays shut until the
+# signal reaches it: the travel error at CO 52 % + is 100 d / 7.68 % of travel
+# (docs/design.md §4.4): 12.389 mA -> 0.90 %, 12.405 mA -> 1.11 %.
+def _two_valves(input_low_b: float) -> list[dict]:
+    return [CTRL, valve("TV-802A", (0, 48), (100, 0), (4, 11.68)),
+            valve("TV-802B", (52, 100), (0, 100), (input_low_b, 20))]
+
+
+@pytest.mark.parametrize("input_low_ma, error_pct, fires", [(12.389, 0.90, False), (12.405, 1.11, True)])
+def test_settings_tolerance_1_pct_travel(index_files, input_low_ma, error_pct, fires):
+    # docs/design.md §4.4: the input range must realise the intended travel within 1 % travel.
+    result = index_files.check(_two_valves(input_low_ma))
+    element = next(e for e in result.splits[0].elements if e.tag == "TV-802B")
+    assert element.travel_error[0] == pytest.approx(error_pct, abs=0.01)
+    found = of(result, "split.settings")
+    assert [f.tags for f in found] == ([("TV-802B",)] if fires else [])
+    if fires:
+        assert re.search(r"travel off by " + number("1.1") + " % at CO 52", found[0].message)
+
+
+@pytest.mark.parametrize("input_high_ma, fires", [(19.86, False), (19.82, True)])
+def test_double_split_tolerance_1_pct_travel(index_files, input_high_ma, fires):
+    # docs/design.md §4.4: a dcs split's positioner takes the full 4 to 20 mA; set to
+    # 4 to 19.86 mA, full travel is reached 0.14 mA early: 100 * 0.14 / 15.86 = 0.88 % travel
+    # at most (inside 1 %); at 19.82 mA, 100 * 0.18 / 15.82 = 1.14 % (split.double-split).
+    rows = [CTRL,
+            {**valve("TV-803A", (0, 50), (0, 100), (4, input_high_ma)), "split_method": "dcs", "io_address": "AO-1"},
+            {**valve("TV-803B", (50, 100), (0, 100), (4, 20)), "split_method": "dcs", "io_address": "AO-2"}]
+    found = of(index_files.check(rows), "split.double-split")
+    assert [f.tags for f in found] == ([("TV-803A",)] if fires else [])
+
+
+def test_range_chart_draws_the_intent_only_beyond_1_pct(index_files):
+    # docs/design.md §4.4: the chart draws the intended travel beside the settings' travel
+    # only when they differ by more than 1 % of travel (0.90 %: not drawn; 1.11 %: drawn).
+    from loopdocs.draw.range_chart import chart_layout
+
+    roles = {}
+    for input_low_ma in (12.389, 12.405):
+        result = index_files.check(_two_valves(input_low_ma))
+        chart = chart_layout(result.splits[0], result.findings)
+        roles[input_low_ma] = {p.role for p in chart.paths}
+    assert "intent:TV-802B" not in roles[12.389]
+    assert "intent:TV-802B" in roles[12.405]
+    assert "intent:TV-802A" not in roles[12.405]  # set as needed: no intent line
+
+
+# --------------------------------------------------------------------------- gap and overlap: 0.01 % CO
+
+
+@pytest.mark.parametrize("gap_pct, rule", [(0.005, None), (0.02, "split.gap"), (-0.005, None), (-0.02, "split.overlap")])
+def test_gap_and_overlap_narrower_than_0_01_pct_co_are_rounding(index_files, gap_pct, rule):
+    # docs/design.md §5.6: two staged valves leaving 0.02 % CO uncovered (or both moving
+    # over 0.02 % CO) are reported; 0.005 % is rounding in the index and is not.
+    b_start = 50 + gap_pct
+    rows = [CTRL, valve("TV-804A", (0, 50), (0, 100), (4, 12)),
+            valve("TV-804B", (b_start, 100), (0, 100), (4 + 0.16 * b_start, 20))]
+    result = index_files.check(rows)
+    found = {f.rule for f in result.findings if f.rule in ("split.gap", "split.overlap")}
+    assert found == ({rule} if rule else set())
+
+
+# --------------------------------------------------------------------------- capacity: gain ratio 0.5 to 2
+
+
+def _staged_linear(cv_a: float, cv_b: float) -> list[dict]:
+    rows = [{"tag": "LIC-805", "platform": "dcs", "signal": "4-20 mA", "control_action": "reverse"}]
+    for suffix, cv, (a, b) in zip("AB", (cv_a, cv_b), [(0, 50), (50, 100)]):
+        rows.append({"tag": f"LV-805{suffix}", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+                     "positioner_action": "direct", "driven_by": "LIC-805", "split_method": "dcs",
+                     "co_start_pct": a, "co_end_pct": b, "travel_start_pct": 0, "travel_end_pct": 100,
+                     "input_low": 4, "input_high": 20, "input_units": "mA", "effect": "raises", "cv": cv,
+                     "characteristic": "linear", "io_address": f"AO-{suffix}"})
+    return rows
+
+
+@pytest.mark.parametrize("cv_a, cv_b, fires", [(10, 19, False), (10, 21, True), (19, 10, False), (21, 10, True)])
+def test_gain_ratio_band_half_to_double(index_files, cv_a, cv_b, fires):
+    # Two linear valves staged at CO 50 %: each gives Cv / 50 % CO, so the loop gain changes
+    # by Cv_B / Cv_A across the boundary (linear inherent characteristic, IEC 60534-1).
+    # Outside 0.5 to 2 it is a jump (docs/design.md §5.6, common practice): 1.9 and 1/1.9
+    # pass, 2.1 and 1/2.1 are reported.
+    result = index_files.check(_staged_linear(cv_a, cv_b))
+    assert result.splits[0].gain_ratios == pytest.approx((cv_b / cv_a,))
+    assert bool(of(result, "split.capacity")) is fires
+
+
+# --------------------------------------------------------------------------- loop load: 22 mA
+
+
+@pytest.mark.parametrize("device_volts, fires", [(18.5, False), (18.6, True)])
+def test_transmitter_loop_sized_for_22_ma(index_files, device_volts, fires):
+    # 24 V supply, 250 ohm load: at 22 mA (a loop is sized for 22 mA, common practice above
+    # NAMUR NE 43's 21 mA failure level) the load takes 0.022 * 250 = 5.5 V and leaves
+    # 18.5 V: a transmitter needing 18.5 V works, one needing 18.6 V does not (loop.load).
+    rows = [{"tag": "TT-806", "signal": "4-20 mA", "device_volts": device_volts, "loop_volts": 24, "load_ohm": 250}]
+    found = of(index_files.check(rows), "loop.load")
+    assert bool(found) is fires
+    if fires:
+        assert re.search(r"leaves " + number("18.50") + " V", found[0].message)
+
+
+# --------------------------------------------------------------------------- Pt100 range (IEC 60751)
+
+
+@pytest.mark.parametrize("range_high_c, fires", [(850, False), (851, True)])
+def test_pt100_upper_limit_850_degc(index_files, range_high_c, fires):
+    # IEC 60751 defines the Pt100 resistance from -200 to 850 degC: a range ending at
+    # 850 degC is within it, one ending at 851 degC is not.
+    rows = [{"tag": "TT-807", "signal": "4-20 mA", "range_low": 0, "range_high": range_high_c, "units": "degC",
+             "sensor": "Pt100"}]
+    result = index_files.check(rows)
+    flagged = [f for f in result.findings if "TT-807" in f.tags and "850" in f.message]
+    assert bool(flagged) is fires, [f.as_json() for f in result.findings]
+
+
+# --------------------------------------------------------------------------- decimals and default tolerances
+
+
+@pytest.fixture(scope="module")
+def calibrate_text(tmp_path_factory) -> str:
+    """``loopdocs calibrate`` of a small index: a 4-20 mA valve, a 3-15 psig valve, a
+    20-100 kPa valve, a Pt100 and a type K transmitter, an I/P converter and a two-valve
+    positioner split; Accuracy % blank except on the transmitters."""
+    path = tmp_path_factory.mktemp("calibrate") / "index.xlsx"
+    rows = [
+        {"tag": "FIC-201", "platform": "dcs", "signal": "4-20 mA", "control_action": "reverse"},
+        {"tag": "FV-201", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+         "positioner_action": "direct", "driven_by": "FIC-201", "input_low": 4, "input_high": 20,
+         "input_units": "mA", "effect": "raises"},
+        {"tag": "PIC-301", "platform": "dcs", "signal": "4-20 mA", "control_action": "reverse"},
+        {"tag": "PV-301", "signal": "3-15 psig", "air_action": "ATO", "fail_position": "FC", "driven_by": "PIC-301"},
+        {"tag": "HIC-401", "platform": "dcs", "signal": "4-20 mA", "control_action": "reverse"},
+        {"tag": "HV-401", "signal": "20-100 kPa", "air_action": "ATO", "fail_position": "FC", "driven_by": "HIC-401"},
+        {"tag": "TT-101", "signal": "4-20 mA", "range_low": 0, "range_high": 100, "units": "degC",
+         "sensor": "Pt100", "accuracy_pct": 0.25},
+        {"tag": "TT-102", "signal": "4-20 mA", "range_low": 0, "range_high": 400, "units": "degC",
+         "sensor": "TC-K", "accuracy_pct": 0.5},
+        {"tag": "TY-130", "signal": "3-15 psig", "range_low": 3, "range_high": 15, "units": "psig"},
+        *_two_valves(12.32),
+    ]
+    write_index_workbook(path, rows)
+    result = runner.invoke(app, ["calibrate", str(path)], env={"COLUMNS": "240"})
+    assert result.exit_code == 0, result.output
+    return result.stdout
+
+
+def _table(text: str, title_start: str) -> str:
+    """The part of the terminal output from ``title_start`` to the next table title."""
+    start = text.index(title_start)
+    body = text.index("\n", start) + 1
+    following = re.search(r"^[A-Z]+-\d+ ", text[body:], re.M)
+    return text[start: body + following.start()] if following else text[start:]
+
+
+SEP = r"[\s│┃|]+"
+
+
+def test_valve_stroke_decimals_mA_three_travel_one(calibrate_text):
+    # 50 % travel at I = 4 + 16 * 0.5 = 12 mA (IEC 60381-1); mA read to 0.001 mA, valve
+    # travel to 0.1 % (calibrator and travel-gauge resolution, common practice).
+    stroke = _table(calibrate_text, "FV-201 valve stroke")
+    assert re.search(number("12.000") + SEP + number("50.0") + SEP + number("49.0") + " to " + number("51.0"), stroke)
+    assert not re.search(number("50.00"), stroke)
+
+
+def test_valve_stroke_default_tolerance_1_pct_travel(calibrate_text):
+    # Accuracy % blank on a valve: +/-1 % of travel (docs/design.md §4.4, common practice),
+    # which on 4-20 mA is 16 mA * 1 % = 0.16 mA, on 3-15 psig 0.12 psig.
+    assert re.search(r"±" + number("0.16") + " mA = ±1 % travel", _table(calibrate_text, "FV-201 valve stroke"))
+    assert re.search(r"±" + number("0.12") + " psig = ±1 % travel", _table(calibrate_text, "PV-301 valve stroke"))
+
+
+def test_pneumatic_decimals_psig_three_kpa_two(calibrate_text):
+    # 50 % of 3-15 psig is 9 psig (IEC 60382), read to 0.001 psig; 50 % of 20-100 kPa is
+    # 60 kPa, read to 0.01 kPa (common practice).
+    assert re.search(number("9.000") + SEP + number("50.0"), _table(calibrate_text, "PV-301 valve stroke"))
+    assert re.search(number("60.00") + SEP + number("50.0"), _table(calibrate_text, "HV-401 valve stroke"))
+
+
+def test_transmitter_decimals_ohm_and_ma_three(calibrate_text):
+    # Pt100 at 50 degC: R = 100 (1 + A t + B t^2) = 119.397 ohm (IEC 60751, A = 3.9083e-3,
+    # B = -5.775e-7), read to 0.001 ohm; 12.000 mA with limits 12 +/- 0.04 mA (0.25 % of 16 mA).
+    table = _table(calibrate_text, "TT-101 transmitter")
+    assert re.search(number("119.397") + SEP + number("12.000") + SEP + number("11.960") + " to " + number("12.040"), table)
+
+
+def test_fail_action_holds_the_valve_at_half_travel(calibrate_text):
+    # The fail-action test first holds the valve mid-stroke (50 % travel: 12 mA on 4-20 mA,
+    # 9 psig on 3-15 psig, I = 4 + 16 * 0.5, IEC 60381-1/60382) so the spring's stroke to
+    # its fail position is seen (common practice); ATO fails closed, 0 % travel.
+    assert re.search(r"hold " + number("12") + " mA", _table(calibrate_text, "FV-201 fail action"))
+    assert re.search(r"hold " + number("9") + " psig", _table(calibrate_text, "PV-301 fail action"))
+
+
+def test_thermocouple_decimals_mv_three(calibrate_text):
+    # Type K at 200 degC: 8.138 mV (IEC 60584-1 reference table, from memory), read to
+    # 0.001 mV; 50 % of 0 to 400 degC -> 12.000 mA.
+    table = _table(calibrate_text, "TT-102 transmitter")
+    assert re.search(number("8.138") + SEP + number("12.000"), table), table
+
+
+def test_converter_default_tolerance_1_pct_of_span(calibrate_text):
+    # I/P converter, Accuracy % blank: +/-1 % of span taken (common practice), 0.16 mA on
+    # the 4-20 mA input and 0.12 psig on the 3-15 psig output; 12 mA -> 9 psig.
+    table = _table(calibrate_text, "TY-130")
+    assert re.search(r"±1 % of span = ±" + number("0.16") + " mA = ±" + number("0.12") + " psig", table), table
+    assert re.search(number("12.000") + SEP + number("9.000") + SEP + number("8.880") + " to " + number("9.120"), table)
+
+
+def test_loop_check_controller_output_decimals_two(calibrate_text):
+    # Loop check of TIC-801's split: controller output read to 0.01 % CO (common practice),
+    # valve travel to 0.1 %: TV-802B starts at CO 52 % (0 % travel) and is fully open at 100 %.
+    table = _table(calibrate_text, "TV-802A, TV-802B split-range loop check")
+    assert re.search(number("52.00") + SEP, table), table
+    assert not re.search(number("52.0") + SEP, table)
+
+
+# --------------------------------------------------------------------------- grading: limits inclusive
+
+
+@pytest.mark.parametrize("reading_ma, status", [(12.04, "pass"), (11.96, "pass"), (12.0416, "fail"), (11.9584, "fail")])
+def test_reading_exactly_at_the_tolerance_passes(reading_ma, status):
+    # Tolerance 0.25 % of a 16 mA span = +/-0.04 mA around 12 mA: 12.04 and 11.96 mA are at
+    # the limit and pass (limits are inclusive, common practice); 0.26 % off fails.
+    from loopdocs.calibration.grading import judge_reading
+
+    assert judge_reading(reading_ma, 12.0, 16.0, 0.25).status == status
