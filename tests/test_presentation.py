@@ -337,3 +337,16 @@ def test_signal_unit_spellings_are_read_in_one_place():
     spelled = [p.relative_to(REPO).as_posix() for p in (REPO / "loopdocs").rglob("*.py")
                if re.search(r"""["']kpag["']\s*:""", p.read_text(encoding="utf-8"))]
     assert spelled == ["loopdocs/calc/units.py"]
+
+
+def test_a_switch_shows_its_set_point_and_reset_without_a_span_column():
+    # A switch is checked at its trip and reset values, not at places on a span (common practice):
+    # PSH-1 trips rising at 6 barg and resets at 5.5 barg.
+    from loopdocs.calc.trip_tables import switch_table
+
+    view = present_table(switch_table("PSH-1", 6.0, 5.5, "barg", "high", (0.0, 10.0), 1.0))
+    assert view.words == "switch set-point test"
+    assert view.heads == ("Apply barg", "Expect barg")
+    # decimals of the switch's 0-10 barg range (display_decimals(10, "barg") == 2), not of the 0.5 barg
+    # between its two points
+    assert [row[0] for row in view.rows] == ["6.00", "5.50"]

@@ -21,8 +21,9 @@ The loop checks of one split group (same controller-output points) are shown sid
 side by :func:`present_tables`: CO, the signal at the elements (one column when they
 share it) and the expected travel of each element.
 
-Decimals follow one rule (``loopdocs.core.formatting.column_decimals``): fixed for signal
-and sensor units, else 1/10 000 of the column's span; the expected values (and their
+Decimals follow one rule (``loopdocs.core.formatting.display_decimals``): fixed for signal
+and sensor units, else 1/10 000 of the span (the table's input or output range; for
+simulated values, and a range of zero width, the column's own); the expected values (and their
 limits, which readings are judged against) also resolve the tolerance to two significant
 digits. Pure code: no terminal, workbook or PDF library.
 """
@@ -40,7 +41,7 @@ from loopdocs.calc.tables import (
     Point,
     ne43_note,
 )
-from loopdocs.core.formatting import column_decimals, fmt_number, fmt_short, percent_decimals
+from loopdocs.core.formatting import column_decimals, display_decimals, fmt_number, fmt_short, percent_decimals
 
 LOOP_CHECK = "loop check"
 SIGNAL_BASIS = "signal at the element"
@@ -56,7 +57,12 @@ KIND_WORDS = {
     "final element": "valve stroke",
     "fail action": "fail action (remove the air supply)",
     "loop check": "split-range loop check",
+    "switch": "switch set-point test",
+    "alarm": "alarm settings",
 }
+
+#: Kinds whose points are not places on a span (a switch trips at its set point): no % column.
+NO_PERCENT_KINDS = ("switch",)
 
 #: Head of the percentage column by kind (``% span`` otherwise).
 PERCENT_HEADS = {"final element": "% travel", "fail action": "% travel held", "loop check": "% CO"}
@@ -248,7 +254,7 @@ def present_table(table: CalibrationTable) -> TableView:
     in_unit, out_unit = table.input_range[0].unit, table.output_range[0].unit
     percents = [p.percent for p in table.points]
     pct_dec = percent_decimals(percents)
-    redundant = (in_unit.startswith("%") and percents == [p.input.value for p in table.points]) or (
+    redundant = table.kind in NO_PERCENT_KINDS or (in_unit.startswith("%") and percents == [p.input.value for p in table.points]) or (
         out_unit.startswith("%") and percents == [p.output.value for p in table.points])
     percent_head = PERCENT_HEADS.get(table.kind, "% span")
     tol = table.tolerance
@@ -263,14 +269,17 @@ def present_table(table: CalibrationTable) -> TableView:
     dp_table = any(k[0] == DP_BASIS for k in sim_keys)
     # a square-root flow table: the input column is the flow, the DP column is applied
     apply_head = "" if table.kind == LOOP_CHECK else "Flow" if dp_table else "Apply"
-    apply_column = Column(apply_head, in_unit, column_decimals([p.input.value for p in table.points], in_unit),
-                          APPLY)
+    in_span = abs(table.input_range[1].value - table.input_range[0].value)
+    apply_column = Column(apply_head, in_unit, display_decimals(in_span, in_unit) if in_span else
+                          column_decimals([p.input.value for p in table.points], in_unit), APPLY)
     columns.append(apply_column)
     for basis, unit, junction in sim_keys:
         values = [next((s.value for s in p.simulate if _sim_key(s) == (basis, unit, junction)), None) for p in table.points]
         columns.append(Column(_simulated_head(basis, unit, dp_table), unit, column_decimals(values, unit), SIMULATE,
                               basis, junction, table.tag))
-    out_dec = column_decimals([p.output.value for p in table.points], out_unit, tol.output.value if tol else None)
+    resolve = tol.output.value if tol else None
+    out_dec = (display_decimals(table.output_span, out_unit, resolve) if table.output_span else
+               column_decimals([p.output.value for p in table.points], out_unit, resolve))
     columns.append(Column("Expect", out_unit, out_dec, EXPECT, tag=table.tag))
     rows = tuple(tuple(fmt_number(_value_of(p, c), c.decimals) for c in columns) for p in points)
     readings = []
