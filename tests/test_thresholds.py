@@ -199,15 +199,30 @@ def test_transmitter_loop_sized_for_22_ma(index_files, device_volts, fires):
 # --------------------------------------------------------------------------- Pt100 range (IEC 60751)
 
 
-@pytest.mark.parametrize("range_high_c, fires", [(850, False), (851, True)])
-def test_pt100_upper_limit_850_degc(index_files, range_high_c, fires):
+@pytest.mark.parametrize("low_c, high_c, fires", [(0, 850, False), (0, 851, True), (-200, 100, False), (-201, 100, True)])
+def test_pt100_range_limits_minus_200_to_850_degc(index_files, low_c, high_c, fires):
     # IEC 60751 defines the Pt100 resistance from -200 to 850 degC: a range ending at
-    # 850 degC is within it, one ending at 851 degC is not.
-    rows = [{"tag": "TT-807", "signal": "4-20 mA", "range_low": 0, "range_high": range_high_c, "units": "degC",
+    # 850 degC (or starting at -200 degC) is within it, one degree beyond is not (sensor.range).
+    rows = [{"tag": "TT-807", "signal": "4-20 mA", "range_low": low_c, "range_high": high_c, "units": "degC",
              "sensor": "Pt100"}]
-    result = index_files.check(rows)
-    flagged = [f for f in result.findings if "TT-807" in f.tags and "850" in f.message]
-    assert bool(flagged) is fires, [f.as_json() for f in result.findings]
+    found = of(index_files.check(rows), "sensor.range")
+    assert [f.tags for f in found] == ([("TT-807",)] if fires else [])
+
+
+# --------------------------------------------------------------------------- CO and travel within 0 to 100 %
+
+
+@pytest.mark.parametrize("key, end, fires", [("co_end_pct", 100, False), ("co_end_pct", 100.5, True),
+                                             ("travel_end_pct", 100, False), ("travel_end_pct", 100.5, True)])
+def test_co_and_travel_beyond_100_pct_are_refused(index_files, key, end, fires):
+    # Controller output and valve travel are 0 to 100 % by definition (common practice);
+    # 100 % is accepted, 100.5 % is an unusable segment (split.segment, docs/design.md §5.6),
+    # not rounded into range.
+    heating = valve("TV-808B", (50, 100), (0, 100), (12, 20))
+    heating[key] = end
+    rows = [CTRL, valve("TV-808A", (0, 50), (100, 0), (4, 12)), heating]
+    found = of(index_files.check(rows), "split.segment")
+    assert [f.tags for f in found] == ([("TV-808B",)] if fires else [])
 
 
 # --------------------------------------------------------------------------- decimals and default tolerances
