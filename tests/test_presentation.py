@@ -346,7 +346,7 @@ def test_a_switch_shows_its_set_point_and_reset_without_a_span_column():
 
     view = present_table(switch_table("PSH-1", 6.0, 5.5, "barg", "high", (0.0, 10.0), 1.0))
     assert view.words == "switch set-point test"
-    assert view.heads == ("Apply barg", "Expect barg")
+    assert view.heads == ("Moving", "Apply barg", "Expect barg")
     # decimals of the switch's 0-10 barg range (display_decimals(10, "barg") == 2), not of the 0.5 barg
-    # between its two points
-    assert [row[0] for row in view.rows] == ["6.00", "5.50"]
+    # between its two points; the trip is approached rising, the reset falling
+    assert [row[:2] for row in view.rows] == [("rising", "6.00"), ("falling", "5.50")]

@@ -69,6 +69,13 @@ PERCENT_HEADS = {"final element": "% travel", "fail action": "% travel held", "l
 
 #: Column roles: what a writer may need to place a column (the workbook maps them on its own columns).
 PERCENT, APPLY, SIMULATE, EXPECT = "percent", "apply", "simulate", "expect"
+#: A text column: which way the input moves to reach the point (trip and alarm tests).
+MOVING = "moving"
+
+#: Kinds whose points are reached moving one way on purpose (a switch trips rising, resets
+#: falling; a high alarm comes in rising): the direction is a column of their table.
+MOVING_KINDS = ("switch", "alarm")
+_MOVING_WORDS = {"up": "rising", "down": "falling"}
 
 
 @dataclass(frozen=True)
@@ -238,6 +245,8 @@ def _simulated_head(basis: str, unit: str, dp_table: bool) -> str:
 
 
 def _value_of(point: Point, column: Column) -> float | None:
+    if column.role == MOVING:
+        return None
     if column.role == PERCENT:
         return point.percent
     if column.role == APPLY:
@@ -259,6 +268,8 @@ def present_table(table: CalibrationTable) -> TableView:
     percent_head = PERCENT_HEADS.get(table.kind, "% span")
     tol = table.tolerance
     columns: list[Column] = []
+    if table.kind in MOVING_KINDS:
+        columns.append(Column("Moving", "", 0, MOVING))
     if not redundant:
         columns.append(Column(percent_head, "", pct_dec, PERCENT))
     sim_keys: list[tuple[str, str, float | None]] = []
@@ -281,7 +292,8 @@ def present_table(table: CalibrationTable) -> TableView:
     out_dec = (display_decimals(table.output_span, out_unit, resolve) if table.output_span else
                column_decimals([p.output.value for p in table.points], out_unit, resolve))
     columns.append(Column("Expect", out_unit, out_dec, EXPECT, tag=table.tag))
-    rows = tuple(tuple(fmt_number(_value_of(p, c), c.decimals) for c in columns) for p in points)
+    rows = tuple(tuple(_MOVING_WORDS.get(p.direction, p.direction) if c.role == MOVING else
+                       fmt_number(_value_of(p, c), c.decimals) for c in columns) for p in points)
     readings = []
     for p in table.points:
         low = p.output.value - tol.output.value if tol else None
