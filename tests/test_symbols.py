@@ -420,8 +420,8 @@ def test_field_location_is_the_bare_bubble() -> None:
 
 
 def test_unknown_names_are_refused_with_the_choices() -> None:
-    with pytest.raises(SymbolError, match="no symbol 'valve-butterfly'"):
-        lib.load_symbol("valve-butterfly")
+    with pytest.raises(SymbolError, match="no symbol 'valve-gate'"):
+        lib.load_symbol("valve-gate")
     with pytest.raises(ValueError, match="main-panel"):
         lib.instrument_bubble("discrete", "roof")
     with pytest.raises(ValueError, match="pneumatic"):

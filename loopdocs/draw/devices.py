@@ -46,6 +46,7 @@ from enum import Enum
 from functools import lru_cache
 from types import MappingProxyType
 
+from loopdocs.draw.annotations import air_supply_text, area_text, interlock_text
 from loopdocs.draw.clusters import (
     LINE_PITCH_MM,
     PIPE_STUB_MM,
@@ -55,13 +56,14 @@ from loopdocs.draw.clusters import (
     fmt_number,
     label,
     service_lines,
+    stack_height,
     stack_lines,
 )
-from loopdocs.draw.geometry import Drawing, PlacedSymbol, PlacedText, Point, SignalLine
+from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, Drawing, PlacedSymbol, PlacedText, Point, SignalLine
 from loopdocs.draw.symbols import BUILDING_BLOCK_PORTS, Symbol, load_symbol, stack
 from loopdocs.draw.text import ASCENT_EM
 from loopdocs.model.records import Tag
-from loopdocs.model.vocab import Sensor, Signal, SplitMethod
+from loopdocs.model.vocab import Accessory, Actuator, DeviceType, Sensor, Signal, SplitMethod, ValveBody
 
 AIR_GAP_MM = 3.0
 """Length of the air line from an accessory to the actuator (or to the next accessory)."""
@@ -69,6 +71,14 @@ TAP_DROP_MM = 13.0
 """How far below the row line an orifice plate's high-pressure tap sits."""
 ELEMENT_DROP_MM = 2.5
 """Gap between a primary element's bubble and its sensing part below it."""
+SUPPLY_DROP_MM = 3.0
+"""Length of each run of the instrument air supply line below a valve's first accessory."""
+COIL_DROP_MM = 2.0
+"""How far below the row line an on/off valve's solenoid coil sits (the row line drops to it)."""
+COIL_LEAD_MM = 2.5
+"""Lead from a solenoid coil up to the label naming its own signal."""
+YOKE_GAP_MM = 2.5
+"""Gap between a valve body and the limit switch box on its left."""
 
 
 @dataclass(frozen=True)
@@ -99,6 +109,25 @@ class MeasuringKind(Enum):
     THERMOWELL = "thermowell"
     RTD = "RTD in a thermowell"
     THERMOCOUPLE = "thermocouple in a thermowell"
+    MAGNETIC = "magnetic flow meter"
+    VORTEX = "vortex flow meter"
+    CORIOLIS = "Coriolis flow meter"
+    ULTRASONIC = "ultrasonic flow meter"
+    THERMAL_MASS = "thermal mass flow meter"
+    TURBINE = "turbine flow meter"
+    POSITIVE_DISPLACEMENT = "positive displacement flow meter"
+    VARIABLE_AREA = "variable-area meter"
+    RADAR = "radar antenna"
+    GUIDED_WAVE_RADAR = "guided-wave radar probe"
+    DISPLACER = "displacer"
+    FLOAT = "float"
+    CAPACITANCE = "capacitance probe"
+    HYDROSTATIC = "diaphragm seal"
+    PRESSURE = "pressure tapping"
+    PH = "pH probe"
+    CONDUCTIVITY = "conductivity probe"
+    OXYGEN = "oxygen probe"
+    ANALYSER = "analyser probe"
 
 
 ElementBuilder = Callable[["MeasuringEntry", Tag, bool], Cluster]
@@ -117,6 +146,9 @@ class MeasuringEntry:
     """The sensing element drawn inside the part (RTD, thermocouple), stacked on ``inner_port``."""
     impulse_taps: bool = False
     """The element joins its transmitter by impulse lines (a connection, no signal label)."""
+    code: str | None = None
+    """Letters that tell apart kinds sharing one symbol: written in the symbol's ``code``
+    text area when it has one (in-line meters), else beside the part (analyser probes)."""
 
     @property
     def symbols(self) -> tuple[SymbolUse, ...]:
@@ -130,28 +162,59 @@ class BodyKind(Enum):
     """The valve body."""
 
     GLOBE = "globe"
+    ANGLE = "angle"
+    BUTTERFLY = "butterfly"
+    BALL = "ball"
+    SEGMENTED_BALL = "segmented ball"
+    ECCENTRIC_PLUG = "eccentric plug"
+    DIAPHRAGM = "diaphragm"
+    THREE_WAY = "three-way"
 
 
 class ActuatorKind(Enum):
     """The actuator stacked on the valve's stem."""
 
     DIAPHRAGM = "diaphragm"
-    PISTON = "piston"
+    PISTON = "double-acting piston"
+    SPRING_PISTON = "spring-return piston"
+    ELECTRIC = "electric"
+    HYDRAULIC = "hydraulic"
+
+
+class Mount(Enum):
+    """Where on the valve an accessory goes."""
+
+    SIGNAL_PATH = "signal path"
+    """Between the row line and the actuator, taking the signal (positioner, I/P)."""
+    AIR_LINE = "air line"
+    """In the air line to the actuator (solenoid valve, lock-up, booster)."""
+    YOKE = "yoke"
+    """On the yoke, joined to the stem (limit switches, position transmitter)."""
+    SUPPLY = "supply"
+    """In the instrument air supply line (air filter regulator)."""
 
 
 class AccessoryKind(Enum):
-    """A device in the valve's signal path, between the row line and the actuator."""
+    """A device mounted on the valve (its :class:`Mount` in the registry entry)."""
 
     POSITIONER = "positioner"
     IP_CONVERTER = "I/P converter"
+    LOCK_UP = "lock-up"
+    SOLENOID = "solenoid valve"
+    BOOSTER = "volume booster"
+    LIMIT_SWITCH = "limit switch"
+    POSITION_TRANSMITTER = "position transmitter"
+    FILTER_REGULATOR = "air filter regulator"
 
 
 @dataclass(frozen=True)
 class BodyEntry:
     kind: BodyKind
     symbol: SymbolUse
-    """Needs ``inlet``, ``outlet`` and ``stem_port``."""
+    """Needs ``inlet``, ``outlet`` and ``stem_port`` (and ``branch`` for a three-way body)."""
     stem_port: str = "stem-top"
+    branch: bool = False
+    """A third process port (``branch``) below the centre."""
 
 
 @dataclass(frozen=True)
@@ -161,6 +224,8 @@ class ActuatorEntry:
     """Needs ``stem_port``, ``signal`` (the stem's top, where the tag bubble stands) and
     ``side-right`` (where the air line or the row line arrives)."""
     stem_port: str = "stem-bottom"
+    pneumatic: bool = True
+    """Moved by instrument air: takes a positioner and an air supply."""
 
 
 AccessoryBuilder = Callable[["AccessoryEntry", Tag, Point], PlacedSymbol]
@@ -175,13 +240,28 @@ class AccessoryEntry:
     build: AccessoryBuilder
     rotate_deg: float = 0.0
     """Turn of the symbol so its signal input faces the control system on the right."""
+    mount: Mount = Mount.SIGNAL_PATH
+    """Signal path and air line: ports ``signal-in`` (right) and ``air-out`` (left),
+    chained towards the actuator; yoke: ``stem`` and ``wires``; supply: ``in`` and ``out``."""
+    letters: str = ""
+    """ISA-5.1 letters of the accessory, for its label when the index has no tag for it."""
 
 
 # --------------------------------------------------------------------------- builders
 
 
-def _sensor_text(tag: Tag, x: float, top: float) -> list[PlacedText]:
-    return [label(tag.sensor.value, x, top + ASCENT_EM * TEXT_MM, "start", "sensor")] if tag.sensor else []
+def _sensor_text(tag: Tag, x: float, top: float, code: str | None = None) -> list[PlacedText]:
+    """The sensor type (Pt100, TC-K) or the kind's code (pH) beside the sensing part."""
+    text = tag.sensor.value if tag.sensor else code
+    return [label(text, x, top + ASCENT_EM * TEXT_MM, "start", "sensor")] if text else []
+
+
+def _code_text(entry: MeasuringEntry, part: PlacedSymbol) -> list[PlacedText]:
+    """The kind's letter code in the part's ``code`` text area (in-line meters)."""
+    if not entry.code or "code" not in part.symbol.ports:
+        return []
+    x, y = part.port("code")
+    return [label(entry.code, x, y, "middle", "device-code", part.name, fit=part.symbol.text_areas["code"][2])]
 
 
 def _placed_part(entry: MeasuringEntry, x: float, y: float, anchor: str, tag: Tag, tagged: bool,
@@ -201,9 +281,11 @@ def _element_bubble(tag: Tag, drawing: Drawing) -> PlacedSymbol:
 
 
 def _in_thermowell(entry: MeasuringEntry, tag: Tag, tagged: bool) -> Cluster:
-    """A thermowell hanging from the vessel wall, with the sensing element in it when the
-    entry has one; the sensor type is written beside it. Tagged: the element's bubble on
-    the row line and the well below it on a leader. Untagged: the well head on the row line."""
+    """A part hanging from (or standing on) the vessel or pipe wall -- a thermowell with
+    the sensing element in it when the entry has one, a level probe, an analyser probe,
+    a seal or a tapping; the sensor type or the kind's code is written beside it. Tagged:
+    the element's bubble on the row line and the part below it on a leader. Untagged: the
+    part's head on the row line."""
     drawing = Drawing()
     symbol = thermowell_symbol(entry.part, entry.inner)
     if tagged:
@@ -217,13 +299,14 @@ def _in_thermowell(entry: MeasuringEntry, tag: Tag, tagged: bool) -> Cluster:
     drawing.lines.append(SignalLine("process", ((left[0] - 3.0, left[1]), (right[0] + 3.0, right[1])), "vessel"))
     if tagged:
         drawing.lines.append(SignalLine("connection", (bottom, part.port("head")), "element-leader"))
-    drawing.texts += _sensor_text(tag, part.box.right + 1.0, right[1] + 1.0)
+    code = entry.code if "code" not in part.symbol.ports else None
+    drawing.texts += _sensor_text(tag, part.box.right + 1.0, right[1] + 1.0, code)
     return Cluster(drawing, attach_out=placed.port("right") if tagged else part.port("head"))
 
 
 def _in_line(entry: MeasuringEntry, tag: Tag, tagged: bool) -> Cluster:
     """An in-line element on a stub of pipe below the element's bubble, joined to it at
-    port ``out``; the sensor type beside it."""
+    port ``out``; its letter code in it (meters), the sensor type beside it."""
     drawing = Drawing()
     if tagged:
         placed = _element_bubble(tag, drawing)
@@ -235,6 +318,7 @@ def _in_line(entry: MeasuringEntry, tag: Tag, tagged: bool) -> Cluster:
     drawing.lines.append(SignalLine("process", ((up[0] - 3.0, up[1]), up), "pipe"))
     drawing.lines.append(SignalLine("process", (down, (down[0] + 3.0, down[1])), "pipe"))
     drawing.symbols.append(part)
+    drawing.texts += _code_text(entry, part)
     if tagged:
         drawing.lines.append(SignalLine("connection", (bottom, part.port("out")), "element-leader"))
     drawing.texts += _sensor_text(tag, part.box.right + 1.0, part.box.y)
@@ -280,6 +364,25 @@ def _signal_path_accessory(entry: AccessoryEntry, valve: Tag, at: Point) -> Plac
 
 
 _WELL = SymbolUse("element-thermowell", ("head", "flange-left", "flange-right", "tip"))
+_METER = SymbolUse("element-meter", ("out", "upstream", "downstream", "code"))
+_PROBE = SymbolUse("element-probe", ("head", "flange-left", "flange-right", "tip"))
+
+
+def _wall(file: str) -> SymbolUse:
+    """A part hung from (or set on) a wall line: the ports :func:`_in_thermowell` uses."""
+    return SymbolUse(file, ("head", "flange-left", "flange-right", "tip"))
+
+
+# Meters sharing one in-line symbol carry letter codes, written in the box. Common
+# practice on loop diagrams and P&IDs (from memory; ISA-5.1 lets a primary element's type
+# be told by letters beside or in its symbol): M magnetic, V vortex, CM Coriolis mass,
+# US ultrasonic, TM thermal mass, TB turbine, PD positive displacement.
+_METER_CODES = {MeasuringKind.MAGNETIC: "M", MeasuringKind.VORTEX: "V", MeasuringKind.CORIOLIS: "CM",
+                MeasuringKind.ULTRASONIC: "US", MeasuringKind.THERMAL_MASS: "TM", MeasuringKind.TURBINE: "TB",
+                MeasuringKind.POSITIVE_DISPLACEMENT: "PD"}
+# Analyser probes share one symbol; the analysis is written beside it.
+_PROBE_CODES = {MeasuringKind.PH: "pH", MeasuringKind.CONDUCTIVITY: "conductivity", MeasuringKind.OXYGEN: "O2",
+                MeasuringKind.ANALYSER: "analyser"}
 
 MEASURING: Mapping[MeasuringKind, MeasuringEntry] = MappingProxyType({
     MeasuringKind.ORIFICE: MeasuringEntry(
@@ -293,26 +396,68 @@ MEASURING: Mapping[MeasuringKind, MeasuringEntry] = MappingProxyType({
     MeasuringKind.THERMOCOUPLE: MeasuringEntry(
         MeasuringKind.THERMOCOUPLE, _WELL, _in_thermowell,
         inner=SymbolUse("element-thermocouple", ("head", "plus", "minus"))),
+    **{kind: MeasuringEntry(kind, _METER, _in_line, code=code) for kind, code in _METER_CODES.items()},
+    MeasuringKind.VARIABLE_AREA: MeasuringEntry(
+        MeasuringKind.VARIABLE_AREA, SymbolUse("element-variable-area", ("out", "upstream", "downstream")), _in_line),
+    MeasuringKind.RADAR: MeasuringEntry(MeasuringKind.RADAR, _wall("element-radar"), _in_thermowell),
+    MeasuringKind.GUIDED_WAVE_RADAR: MeasuringEntry(
+        MeasuringKind.GUIDED_WAVE_RADAR, _wall("element-guided-wave-radar"), _in_thermowell),
+    MeasuringKind.DISPLACER: MeasuringEntry(MeasuringKind.DISPLACER, _wall("element-displacer"), _in_thermowell),
+    MeasuringKind.FLOAT: MeasuringEntry(MeasuringKind.FLOAT, _wall("element-float"), _in_thermowell),
+    MeasuringKind.CAPACITANCE: MeasuringEntry(MeasuringKind.CAPACITANCE, _wall("element-capacitance"), _in_thermowell),
+    MeasuringKind.HYDROSTATIC: MeasuringEntry(MeasuringKind.HYDROSTATIC, _wall("element-seal"), _in_thermowell),
+    MeasuringKind.PRESSURE: MeasuringEntry(MeasuringKind.PRESSURE, _wall("element-pressure-tap"), _in_thermowell),
+    **{kind: MeasuringEntry(kind, _PROBE, _in_thermowell, code=code) for kind, code in _PROBE_CODES.items()},
 })
 
+_BODY_PORTS = ("inlet", "outlet", "stem-top")
 BODIES: Mapping[BodyKind, BodyEntry] = MappingProxyType({
-    BodyKind.GLOBE: BodyEntry(BodyKind.GLOBE, SymbolUse("valve-globe", ("inlet", "outlet", "stem-top"))),
+    BodyKind.GLOBE: BodyEntry(BodyKind.GLOBE, SymbolUse("valve-globe", _BODY_PORTS)),
+    BodyKind.ANGLE: BodyEntry(BodyKind.ANGLE, SymbolUse("valve-angle", _BODY_PORTS)),
+    BodyKind.BUTTERFLY: BodyEntry(BodyKind.BUTTERFLY, SymbolUse("valve-butterfly", _BODY_PORTS)),
+    BodyKind.BALL: BodyEntry(BodyKind.BALL, SymbolUse("valve-ball", _BODY_PORTS)),
+    BodyKind.SEGMENTED_BALL: BodyEntry(BodyKind.SEGMENTED_BALL, SymbolUse("valve-segmented-ball", _BODY_PORTS)),
+    BodyKind.ECCENTRIC_PLUG: BodyEntry(BodyKind.ECCENTRIC_PLUG, SymbolUse("valve-eccentric-plug", _BODY_PORTS)),
+    BodyKind.DIAPHRAGM: BodyEntry(BodyKind.DIAPHRAGM, SymbolUse("valve-diaphragm", _BODY_PORTS)),
+    BodyKind.THREE_WAY: BodyEntry(BodyKind.THREE_WAY, SymbolUse("valve-three-way", _BODY_PORTS + ("branch",)),
+                                  branch=True),
 })
 
 _ACTUATOR_PORTS = ("stem-bottom", "signal", "side-right")
 ACTUATORS: Mapping[ActuatorKind, ActuatorEntry] = MappingProxyType({
     ActuatorKind.DIAPHRAGM: ActuatorEntry(ActuatorKind.DIAPHRAGM, SymbolUse("actuator-diaphragm", _ACTUATOR_PORTS)),
     ActuatorKind.PISTON: ActuatorEntry(ActuatorKind.PISTON, SymbolUse("actuator-piston", _ACTUATOR_PORTS)),
+    ActuatorKind.SPRING_PISTON: ActuatorEntry(ActuatorKind.SPRING_PISTON,
+                                              SymbolUse("actuator-piston-spring", _ACTUATOR_PORTS)),
+    ActuatorKind.ELECTRIC: ActuatorEntry(ActuatorKind.ELECTRIC, SymbolUse("actuator-electric", _ACTUATOR_PORTS),
+                                         pneumatic=False),
+    ActuatorKind.HYDRAULIC: ActuatorEntry(ActuatorKind.HYDRAULIC, SymbolUse("actuator-hydraulic", _ACTUATOR_PORTS),
+                                          pneumatic=False),
 })
 
+_CHAINED = ("signal-in", "air-out")
 ACCESSORIES: Mapping[AccessoryKind, AccessoryEntry] = MappingProxyType({
     # drawn with its signal input on the left, so turned half a turn to face the control system
-    AccessoryKind.POSITIONER: AccessoryEntry(AccessoryKind.POSITIONER, SymbolUse("positioner", ("signal-in", "air-out")),
+    AccessoryKind.POSITIONER: AccessoryEntry(AccessoryKind.POSITIONER, SymbolUse("positioner", _CHAINED + ("bottom",)),
                                              _signal_path_accessory, rotate_deg=180.0),
     # drawn with its signal input on the right (the letters stay upright)
     AccessoryKind.IP_CONVERTER: AccessoryEntry(AccessoryKind.IP_CONVERTER,
-                                               SymbolUse("ip-converter", ("signal-in", "air-out")),
+                                               SymbolUse("ip-converter", _CHAINED + ("bottom",)),
                                                _signal_path_accessory),
+    AccessoryKind.LOCK_UP: AccessoryEntry(AccessoryKind.LOCK_UP, SymbolUse("lock-up", _CHAINED),
+                                          _signal_path_accessory, mount=Mount.AIR_LINE),
+    AccessoryKind.SOLENOID: AccessoryEntry(AccessoryKind.SOLENOID, SymbolUse("solenoid-valve", _CHAINED + ("coil",)),
+                                           _signal_path_accessory, mount=Mount.AIR_LINE, letters="XY"),
+    AccessoryKind.BOOSTER: AccessoryEntry(AccessoryKind.BOOSTER, SymbolUse("volume-booster", _CHAINED),
+                                          _signal_path_accessory, mount=Mount.AIR_LINE),
+    AccessoryKind.LIMIT_SWITCH: AccessoryEntry(AccessoryKind.LIMIT_SWITCH, SymbolUse("limit-switch", ("stem", "bottom")),
+                                               _signal_path_accessory, mount=Mount.YOKE, letters="ZS"),
+    AccessoryKind.POSITION_TRANSMITTER: AccessoryEntry(
+        AccessoryKind.POSITION_TRANSMITTER, SymbolUse("position-transmitter", ("stem", "top")),
+        _signal_path_accessory, mount=Mount.YOKE, letters="ZT"),
+    AccessoryKind.FILTER_REGULATOR: AccessoryEntry(
+        AccessoryKind.FILTER_REGULATOR, SymbolUse("air-filter-regulator", ("in", "out")), _signal_path_accessory,
+        mount=Mount.SUPPLY),
 })
 
 
@@ -370,11 +515,36 @@ def sensor_kind(sensor: Sensor) -> MeasuringKind:
     return MeasuringKind.RTD if sensor.is_rtd else MeasuringKind.THERMOCOUPLE
 
 
-def measuring_kind(element: Tag, feeds_transmitter: bool) -> MeasuringKind:
-    """The sensing part of a primary element: a flow element feeding a transmitter is an
+_BY_DEVICE_TYPE: Mapping[DeviceType, MeasuringKind] = MappingProxyType({
+    DeviceType.MAGNETIC: MeasuringKind.MAGNETIC, DeviceType.VORTEX: MeasuringKind.VORTEX,
+    DeviceType.CORIOLIS: MeasuringKind.CORIOLIS, DeviceType.ULTRASONIC: MeasuringKind.ULTRASONIC,
+    DeviceType.THERMAL_MASS: MeasuringKind.THERMAL_MASS, DeviceType.TURBINE: MeasuringKind.TURBINE,
+    DeviceType.POSITIVE_DISPLACEMENT: MeasuringKind.POSITIVE_DISPLACEMENT,
+    DeviceType.VARIABLE_AREA: MeasuringKind.VARIABLE_AREA, DeviceType.RADAR: MeasuringKind.RADAR,
+    DeviceType.GUIDED_WAVE_RADAR: MeasuringKind.GUIDED_WAVE_RADAR, DeviceType.DISPLACER: MeasuringKind.DISPLACER,
+    DeviceType.HYDROSTATIC: MeasuringKind.HYDROSTATIC, DeviceType.CAPACITANCE: MeasuringKind.CAPACITANCE,
+    DeviceType.FLOAT: MeasuringKind.FLOAT, DeviceType.PRESSURE: MeasuringKind.PRESSURE,
+    DeviceType.PH: MeasuringKind.PH, DeviceType.CONDUCTIVITY: MeasuringKind.CONDUCTIVITY,
+    DeviceType.OXYGEN: MeasuringKind.OXYGEN, DeviceType.ANALYSER: MeasuringKind.ANALYSER,
+})
+"""Device Type -> the sensing part drawn (DP and thermowell are chosen by
+:func:`measuring_kind` from the letters and the Sensor, as without a Device Type)."""
+
+
+def device_kind(tag: Tag) -> MeasuringKind | None:
+    """The sensing part the tag's Device Type names, or None (blank, DP, thermowell)."""
+    return _BY_DEVICE_TYPE.get(tag.device_type) if tag.device_type is not None else None
+
+
+def measuring_kind(element: Tag, feeds_transmitter: bool, transmitter: Tag | None = None) -> MeasuringKind:
+    """The sensing part of a primary element: the element's Device Type (else its
+    transmitter's) when it names one; else a flow element feeding a transmitter is an
     orifice plate (the DP transmitter takes its impulse lines); a temperature element is
     its sensor in a thermowell (the bare well when the Sensor is blank); anything else
     the generic in-line element."""
+    named = device_kind(element) or (device_kind(transmitter) if transmitter is not None else None)
+    if named is not None:
+        return named
     variable = element.parts.variable
     if variable.startswith("F") and feeds_transmitter:
         return MeasuringKind.ORIFICE
@@ -383,26 +553,60 @@ def measuring_kind(element: Tag, feeds_transmitter: bool) -> MeasuringKind:
     return MeasuringKind.GENERIC
 
 
+_BODY_BY_VALVE_BODY: Mapping[ValveBody, BodyKind] = MappingProxyType({v: BodyKind[v.name] for v in ValveBody})
+_ACTUATOR_BY_INDEX: Mapping[Actuator, ActuatorKind] = MappingProxyType({
+    Actuator.SPRING_DIAPHRAGM: ActuatorKind.DIAPHRAGM, Actuator.SPRING_PISTON: ActuatorKind.SPRING_PISTON,
+    Actuator.DOUBLE_ACTING_PISTON: ActuatorKind.PISTON, Actuator.ELECTRIC: ActuatorKind.ELECTRIC,
+    Actuator.HYDRAULIC: ActuatorKind.HYDRAULIC,
+})
+
+
 def body_kind(valve: Tag) -> BodyKind:
-    """Globe: the index has no valve body column yet."""
-    return BodyKind.GLOBE
+    """The Valve Body column; globe (the general two-way body) when blank."""
+    return _BODY_BY_VALVE_BODY[valve.valve_body] if valve.valve_body is not None else BodyKind.GLOBE
 
 
 def actuator_kind(valve: Tag) -> ActuatorKind:
-    """Diaphragm: the index has no actuator column yet."""
-    return ActuatorKind.DIAPHRAGM
+    """The Actuator column; a spring-diaphragm actuator when blank."""
+    return _ACTUATOR_BY_INDEX[valve.actuator] if valve.actuator is not None else ActuatorKind.DIAPHRAGM
+
+
+_AIR_LINE_ORDER: tuple[tuple[Accessory, AccessoryKind], ...] = (
+    (Accessory.LOCK_UP, AccessoryKind.LOCK_UP), (Accessory.SOLENOID, AccessoryKind.SOLENOID),
+    (Accessory.BOOSTER, AccessoryKind.BOOSTER))
+"""Order along the air line from the positioner to the actuator (common practice: the
+lock-up holds the positioner's output, the solenoid valve vents the actuator, a booster
+sits next to the actuator it fills)."""
 
 
 def accessory_kinds(valve: Tag) -> tuple[AccessoryKind, ...]:
-    """A positioner when the valve has a positioner action, is in a positioner split, or
-    takes an electric signal (an electro-pneumatic positioner, common practice); nothing
-    for a valve moved by a pneumatic signal straight to its actuator."""
+    """What is drawn on the valve, signal path first, then the air line, the yoke and
+    the supply.
+
+    Signal path: a positioner when the valve has a positioner action, is in a positioner
+    split, or takes an electric signal (an electro-pneumatic positioner, common
+    practice); nothing for a valve moved by a pneumatic signal straight to its actuator,
+    for an electric or hydraulic actuator, or for an on/off valve (discrete signal)
+    whose solenoid valve takes the signal. Then the Accessories column."""
+    listed = set(valve.accessories)
+    pneumatic = ACTUATORS[actuator_kind(valve)].pneumatic
     signal = valve.signal
-    if valve.positioner_action is not None or valve.split_method is SplitMethod.POSITIONER:
-        return (AccessoryKind.POSITIONER,)
-    if signal is not None and not signal.is_pneumatic and signal is not Signal.NONE:
-        return (AccessoryKind.POSITIONER,)
-    return ()
+    kinds: list[AccessoryKind] = []
+    on_off = signal is Signal.DISCRETE and Accessory.SOLENOID in listed
+    if pneumatic and not on_off:
+        if valve.positioner_action is not None or valve.split_method is SplitMethod.POSITIONER:
+            kinds.append(AccessoryKind.POSITIONER)
+        elif signal is not None and not signal.is_pneumatic and signal is not Signal.NONE:
+            kinds.append(AccessoryKind.POSITIONER)
+    if pneumatic:
+        kinds += [kind for item, kind in _AIR_LINE_ORDER if item in listed]
+    if listed & {Accessory.LIMIT_OPEN, Accessory.LIMIT_CLOSED}:
+        kinds.append(AccessoryKind.LIMIT_SWITCH)
+    if Accessory.POSITION_TRANSMITTER in listed:
+        kinds.append(AccessoryKind.POSITION_TRANSMITTER)
+    if pneumatic and Accessory.FILTER_REGULATOR in listed:
+        kinds.append(AccessoryKind.FILTER_REGULATOR)
+    return tuple(kinds)
 
 
 # --------------------------------------------------------------------------- device drawings
@@ -426,22 +630,133 @@ def _split_setting_text(tag: Tag) -> str | None:
     return None
 
 
+def _stub(port: Point, centre: Point) -> tuple[Point, Point]:
+    """A pipe stub leaving a body port away from the body's centre (left, right or down)."""
+    dx, dy = port[0] - centre[0], port[1] - centre[1]
+    if abs(dy) > abs(dx):
+        return (port, (port[0], port[1] + PIPE_STUB_MM * (1 if dy > 0 else -1)))
+    if dx < 0:  # drawn left to right, towards the body
+        return ((port[0] - PIPE_STUB_MM, port[1]), port)
+    return (port, (port[0] + PIPE_STUB_MM, port[1]))
+
+
+def _accessory_label(kind: AccessoryKind, valve: Tag, accessory_tags: Mapping[AccessoryKind, tuple[str, ...]]) -> list[str]:
+    """The tags the index gives the accessory (its own rows), else its letters."""
+    tags = accessory_tags.get(kind, ())
+    if tags:
+        return list(tags)
+    if kind is AccessoryKind.LIMIT_SWITCH:
+        return [name for item, name in ((Accessory.LIMIT_OPEN, "ZSO"), (Accessory.LIMIT_CLOSED, "ZSC"))
+                if item in valve.accessories]
+    return [ACCESSORIES[kind].letters] if ACCESSORIES[kind].letters else []
+
+
+def _supply_line(drawing: Drawing, tag: Tag, entry_port: Point, horizontal_first: bool,
+                 regulator: bool) -> float:
+    """The instrument air supply to the first pneumatic device, leaving ``entry_port``
+    downwards (or first to the right, then down), through the air filter regulator when
+    there is one, ending in its ``IA`` label; returns the lowest y drawn."""
+    x, y = entry_port
+    points: list[Point] = [entry_port]
+    if horizontal_first:
+        x += AIR_GAP_MM + 1.0
+        points.append((x, y))
+    y_afr = y + SUPPLY_DROP_MM
+    if regulator:
+        afr = PlacedSymbol(ACCESSORIES[AccessoryKind.FILTER_REGULATOR].symbol.load(), x, y_afr, anchor="out",
+                           role="air-filter-regulator", tag=tag.tag, ports_used=("in", "out"),
+                           name=f"air-filter-regulator:{tag.tag}")
+        drawing.symbols.append(afr)
+        drawing.lines.append(SignalLine("pneumatic", tuple(points + [afr.port("out")]), "air-supply"))
+        start = afr.port("in")
+        end = (start[0], start[1] + SUPPLY_DROP_MM)
+        drawing.lines.append(SignalLine("pneumatic", (start, end), "air-supply"))
+    else:
+        end = (x, y + 2 * SUPPLY_DROP_MM)
+        drawing.lines.append(SignalLine("pneumatic", tuple(points + [end]), "air-supply"))
+    text = label(air_supply_text(tag), end[0], end[1] + 0.6 + ASCENT_EM * TEXT_MM, "middle", "air-supply")
+    drawing.texts.append(text)
+    return text.box.bottom
+
+
+def _yoke_devices(drawing: Drawing, valve: PlacedSymbol, tag: Tag, kinds: list[AccessoryKind],
+                  accessory_tags: Mapping[AccessoryKind, tuple[str, ...]]) -> tuple[float, float]:
+    """Limit switch box and position transmitter left of the body, the first joined to the
+    stem by a thin line at the stem's joint with the actuator, the second hung below the
+    first; their tags (or letters) above them. Returns (left edge, top) of what is drawn."""
+    stem = valve.port("stem-top")
+    x_right = valve.box.x - YOKE_GAP_MM
+    above: Point | None = None
+    labels: list[str] = []
+    left, top = x_right, stem[1]
+    for kind in kinds:
+        entry = ACCESSORIES[kind]
+        if above is None:
+            placed = PlacedSymbol(entry.symbol.load(), x_right, stem[1], anchor="stem", role=kind.name.lower(),
+                                  tag=tag.tag, ports_used=entry.symbol.ports, name=f"{kind.name.lower()}:{tag.tag}")
+            drawing.lines.append(SignalLine("connection", (placed.port("stem"), stem), "yoke-link"))
+        else:
+            symbol = entry.symbol.load()
+            dy = symbol.port("stem")[1] - symbol.port("top")[1] if "top" in symbol.ports else 0.0
+            placed = PlacedSymbol(symbol, above[0], above[1] + 1.5, anchor="top", role=kind.name.lower(),
+                                  tag=tag.tag, ports_used=entry.symbol.ports, name=f"{kind.name.lower()}:{tag.tag}")
+            drawing.lines.append(SignalLine("connection", (above, placed.port("top")), "yoke-link"))
+            del dy
+        drawing.symbols.append(placed)
+        if above is None:
+            top = placed.box.y
+        if "bottom" in placed.symbol.ports:
+            above = placed.port("bottom")
+        labels += _accessory_label(kind, tag, accessory_tags)
+        left = min(left, placed.box.x)
+    if labels:
+        first = drawing.symbols[-len(kinds)]
+        bottom = first.box.y - 0.6
+        drawing.texts += stack_lines(labels, first.box.right, bottom - stack_height(len(labels)), "end", "accessory")
+        top = bottom - stack_height(len(labels))
+    return left, top
+
+
+def valve_text_lines(tag: Tag) -> list[str]:
+    """Size and Cv, hazardous area and interlock under the valve (when the index gives them)."""
+    lines: list[str] = []
+    if tag.valve_size:
+        lines.append(f"{tag.valve_size}, Cv {fmt_number(tag.cv)}" if tag.cv is not None else tag.valve_size)
+    lines += [t for t in (area_text(tag), interlock_text(tag)) if t]
+    return lines
+
+
 def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = None,
                   actuator: ActuatorKind | None = None,
-                  accessories: tuple[AccessoryKind, ...] | None = None) -> Cluster:
+                  accessories: tuple[AccessoryKind, ...] | None = None,
+                  accessory_tags: Mapping[AccessoryKind, tuple[str, ...]] | None = None) -> Cluster:
     """Control valve: body with actuator (kinds chosen from the record unless given), the
-    accessories in its signal path, the tag bubble above the actuator, fail position below
-    the body (ISA-5.1 FC/FO/FL), air action beside the actuator, split setting under the
-    first accessory, service below.
+    accessories in its signal path and air line, those on its yoke, the instrument air
+    supply, the tag bubble above the actuator, fail position below the body (ISA-5.1
+    FC/FO/FL), size and Cv, air action beside the actuator, split setting under the first
+    accessory, service below. ``accessory_tags`` names the index rows of accessories that
+    have their own tag (a solenoid valve XY, limit switches ZSO/ZSC), written beside them.
 
-    The row line joins the first accessory's signal input (or the actuator), here at (0, 0)."""
+    The row line joins the first accessory's signal input (or the actuator) at (0, 0); an
+    on/off valve's solenoid valve takes it at its coil, below the row line."""
     body = body_kind(tag) if body is None else body
     actuator = actuator_kind(tag) if actuator is None else actuator
     accessories = accessory_kinds(tag) if accessories is None else accessories
+    accessory_tags = accessory_tags or {}
+    chained = [k for k in accessories if ACCESSORIES[k].mount in (Mount.SIGNAL_PATH, Mount.AIR_LINE)]
+    yoke = [k for k in accessories if ACCESSORIES[k].mount is Mount.YOKE]
     drawing = Drawing()
     placed_accessories: list[PlacedSymbol] = []
     at: Point = (0.0, 0.0)
-    for kind in accessories:
+    out_path: tuple[Point, ...] = ()
+    # an on/off valve: the row's signal goes to the solenoid valve's coil, the air line below
+    coil_first = bool(chained) and chained[0] is AccessoryKind.SOLENOID and not (
+        tag.signal is not None and tag.signal.is_pneumatic)
+    if coil_first:
+        symbol = ACCESSORIES[AccessoryKind.SOLENOID].symbol.load()
+        dx, dy = (symbol.port("coil")[k] - symbol.port("signal-in")[k] for k in (0, 1))
+        at = (0.0, COIL_DROP_MM - dy)
+    for kind in chained:
         entry = ACCESSORIES[kind]
         placed = entry.build(entry, tag, at)
         if placed_accessories:
@@ -454,15 +769,16 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
     actuator_at = at
     valve = PlacedSymbol(valve_symbol(body, actuator), actuator_at[0], actuator_at[1], anchor="side-right",
                          role="valve", tag=tag.tag,
-                         ports_used=("side-right", "signal", "inlet", "outlet", "stem-top"),
+                         ports_used=("side-right", "signal", "inlet", "outlet", "stem-top")
+                         + (("branch",) if BODIES[body].branch else ()),
                          name=f"valve:{tag.tag}")
     drawing.symbols.append(valve)
     if placed_accessories:
         drawing.lines.append(SignalLine("pneumatic", (placed_accessories[-1].port("air-out"),
                                                       valve.port("side-right")), "positioner-air"))
-    inlet, outlet = valve.port("inlet"), valve.port("outlet")
-    drawing.lines.append(SignalLine("process", ((inlet[0] - PIPE_STUB_MM, inlet[1]), inlet), "pipe"))
-    drawing.lines.append(SignalLine("process", (outlet, (outlet[0] + PIPE_STUB_MM, outlet[1])), "pipe"))
+    centre = valve.port("centre")
+    for port in ("inlet", "outlet") + (("branch",) if BODIES[body].branch else ()):
+        drawing.lines.append(SignalLine("process", _stub(valve.port(port), centre), "pipe"))
 
     stem_x, signal_y = valve.port("signal")
     placed_bubble, texts = bubble(tag, "field", "instrument")
@@ -473,13 +789,52 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
         x, y = placed_bubble.port(t.role)
         drawing.texts.append(label(t.text, x, y, "middle", t.role, placed_bubble.name, fit=t.fit_width_mm))
 
+    # solenoid valve coils: the row line (on/off valve) or a short lead to the label of its own signal
+    for placed, kind in zip(placed_accessories, chained):
+        if kind is not AccessoryKind.SOLENOID:
+            continue
+        coil = placed.port("coil")
+        if coil_first and placed is placed_accessories[0]:
+            out_path = (coil, (coil[0], 0.0))
+            continue
+        lead_top = (coil[0], coil[1] - COIL_LEAD_MM)
+        drawing.lines.append(SignalLine("electrical", (coil, lead_top), "coil-lead"))
+        names = _accessory_label(kind, tag, accessory_tags)
+        drawing.texts += stack_lines(names, coil[0] - 1.5, lead_top[1] - 0.6 - stack_height(len(names)), "start",
+                                     "accessory")
+
+    left_x = valve.box.x
+    if yoke:
+        left_x, _ = _yoke_devices(drawing, valve, tag, yoke, accessory_tags)
+
     box = valve.box
-    y = box.bottom + 0.8
+    lowest = box.bottom
+    if BODIES[body].branch:
+        lowest = max(lowest, valve.port("branch")[1] + PIPE_STUB_MM)
+    y = lowest + 0.8
     if tag.fail_position is not None:
         drawing.texts += stack_lines([tag.fail_position.value], stem_x, y, "middle", "fail-position")
         y += LINE_PITCH_MM
     if tag.air_action is not None:
-        drawing.texts.append(label(tag.air_action.value, box.x - 1.0, actuator_at[1] - 0.5, "end", "air-action"))
+        drawing.texts.append(label(tag.air_action.value, min(box.x, left_x) - 1.0, actuator_at[1] - 0.5, "end",
+                                   "air-action"))
+    extra = valve_text_lines(tag)
+    if extra:
+        drawing.texts += stack_lines(extra, stem_x, y, "middle", "valve-data")
+        y += LINE_PITCH_MM * len(extra)
+    # instrument air to the first pneumatic device (ISA-5.1 supply IA), with its regulator
+    supply_x: float | None = None
+    pneumatic = ACTUATORS[actuator].pneumatic
+    regulator = AccessoryKind.FILTER_REGULATOR in accessories
+    if pneumatic and placed_accessories and (tag.air_supply or regulator):
+        first = placed_accessories[0]
+        if coil_first:
+            entry_port, across = first.port("signal-in"), True
+        else:
+            entry_port, across = first.port("bottom"), False
+        supply_bottom = _supply_line(drawing, tag, entry_port, across, regulator)
+        supply_x = entry_port[0] + (AIR_GAP_MM + 1.0 if across else 0.0)
+        y = max(y, supply_bottom + 0.8)
     service = service_lines(tag, loop_service)
     if service:
         drawing.texts += stack_lines(service, stem_x, y + 0.5, "middle", "service")
@@ -487,6 +842,9 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
     if setting:
         first = placed_accessories[0] if placed_accessories else None
         anchor_x = first.box.x if first is not None else valve.box.right + 0.5
+        if supply_x is not None:
+            anchor_x = max(anchor_x, supply_x + LINE_HALF_WIDTH_MM["pneumatic"] + 0.6)
         top = (first.box.bottom if first is not None else 1.5) + 0.8
         drawing.texts.append(label(setting, anchor_x, top + ASCENT_EM * TEXT_MM, "start", "split-setting"))
-    return Cluster(drawing, attach_out=(0.0, 0.0), points={"attach": (0.0, 0.0)})
+    attach = out_path[-1] if out_path else (0.0, 0.0)
+    return Cluster(drawing, attach_out=attach, out_path=out_path, points={"attach": attach})

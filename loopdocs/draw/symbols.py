@@ -66,6 +66,8 @@ BUILDING_BLOCK_PORTS: Mapping[str, tuple[str, ...]] = MappingProxyType(
         "terminal-cabinet": TERMINAL_PORTS,
         "mark-pneumatic": ("centre",),
         "mark-data": ("centre",),
+        "barrier": ("wire-left", "wire-right", "label"),
+        "earth": ("tap",),
     }
 )
 # Text areas the layout relies on, per symbol file (files not listed need none).
@@ -75,6 +77,7 @@ REQUIRED_TEXT_AREAS: Mapping[str, tuple[str, ...]] = MappingProxyType(
         "positioner": ("label",),
         "terminal-jb": ("label",),
         "terminal-cabinet": ("label",),
+        "barrier": ("label",),
     }
 )
 
