@@ -17,7 +17,8 @@ Sources, as cited beside each test:
 - display decimals: the resolution a process calibrator reads (common practice): mA,
   psig, mV and ohm to 0.001, kPa to 0.01, valve travel to 0.1 %, controller output to
   0.01 %;
-- Pt100 limits -200 to 850 degC (IEC 60751 table range);
+- Pt100 limits -200 to 850 degC (IEC 60751 table range); thermocouple tolerance classes
+  (IEC 60584-1:2013); table values read back only within the table's rounding;
 - a reading exactly at its tolerance passes (common practice: limits are inclusive).
 """
 
@@ -207,6 +208,54 @@ def test_pt100_range_limits_minus_200_to_850_degc(index_files, low_c, high_c, fi
              "sensor": "Pt100"}]
     found = of(index_files.check(rows), "sensor.range")
     assert [f.tags for f in found] == ([("TT-807",)] if fires else [])
+
+
+@pytest.mark.parametrize("resistance_ohm, accepted", [(390.48, True), (390.49, False)])
+def test_pt100_resistance_read_to_the_table_end_and_no_further(resistance_ohm, accepted):
+    # IEC 60751 table: Pt100 at 850 degC is 390.48 ohm (printed to 0.01 ohm; the function gives
+    # 390.4811). A printed end value reads back (to 850 degC within 0.01); 390.49 ohm is
+    # beyond the printed end by more than its rounding and is refused.
+    from loopdocs.calc.rtd import rtd_temperature_c
+
+    if accepted:
+        assert rtd_temperature_c(resistance_ohm) == pytest.approx(850.0, abs=0.01)
+    else:
+        with pytest.raises(ValueError, match="-200 to 850 degC"):
+            rtd_temperature_c(resistance_ohm)
+
+
+@pytest.mark.parametrize("emf_mv, accepted", [(54.886, True), (54.888, False)])
+def test_type_k_emf_read_to_the_table_end_and_no_further(emf_mv, accepted):
+    # NIST Monograph 175 type K table: 54.886 mV at 1372 degC (printed to 0.001 mV, from
+    # memory). The printed end value reads back to 1372 degC within 0.05; 0.002 mV beyond
+    # it is more than the table's rounding and is refused.
+    from loopdocs.calc.thermocouple import temperature_c
+
+    if accepted:
+        assert temperature_c("K", emf_mv) == pytest.approx(1372.0, abs=0.05)
+    else:
+        with pytest.raises(ValueError, match="-270 to 1372 degC"):
+            temperature_c("K", emf_mv)
+
+
+# IEC 60584-1:2013 tolerance classes (as reproduced in manufacturers' tables; from memory):
+# the widest span any class of each type covers, degC.
+TC_CLASS_SPAN_C = {"TC-T": (-200, 350), "TC-J": (-40, 750), "TC-E": (-200, 900), "TC-K": (-200, 1200),
+                   "TC-N": (-200, 1200), "TC-R": (0, 1600), "TC-S": (0, 1600), "TC-B": (600, 1700)}
+
+
+@pytest.mark.parametrize("sensor", sorted(TC_CLASS_SPAN_C))
+def test_thermocouple_tolerance_class_ends(sensor):
+    # A range ending exactly at the end of the type's tolerance classes has no finding; one
+    # degree beyond (still inside the reference function) is outside every class.
+    from loopdocs.checks.consistency import class_range_problems
+    from loopdocs.model.vocab import Sensor
+
+    low_c, high_c = TC_CLASS_SPAN_C[sensor]
+    s = Sensor(sensor)
+    assert class_range_problems(s, low_c, high_c, "degC") == []
+    assert [p.key for p in class_range_problems(s, low_c, high_c + 1, "degC")] == ["range_high"]
+    assert [p.key for p in class_range_problems(s, low_c - 1, high_c, "degC")] == ["range_low"]
 
 
 # --------------------------------------------------------------------------- CO and travel within 0 to 100 %
