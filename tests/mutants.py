@@ -236,6 +236,10 @@ class TestMap:
                 direct.append(f"tests/{t.name}")
             elif module in self._closure(imports, through_init_only=False):
                 wide.append(f"tests/{t.name}")
+        # likeliest killers first (pytest -x stops at the first failure): files importing the
+        # module itself, then files named after it, then the rest
+        stem = module.rsplit(".", 1)[-1].split("_")[0]
+        direct.sort(key=lambda t: (module not in self.test_imports[t[len("tests/"):]], stem not in t))
         return direct, wide
 
 
