@@ -81,14 +81,20 @@ def power_text(tag: Tag) -> str | None:
 
 
 def air_supply_text(tag: Tag) -> str:
-    """The instrument air supply: ``IA`` and the Air Supply text."""
-    return f"IA {tag.air_supply}" if tag.air_supply else "IA"
+    """The instrument air supply: ``IA`` and the Air Supply text (as written when it
+    already starts with IA or AS)."""
+    if not tag.air_supply:
+        return "IA"
+    if tag.air_supply.upper().startswith(("IA ", "AS ", "IA-", "AS-")) or tag.air_supply.upper() in ("IA", "AS"):
+        return tag.air_supply
+    return f"IA {tag.air_supply}"
 
 
 def cable_text(tag: Tag) -> str | None:
-    """The cable label with its cores: ``C-101 1+ 2- S``."""
-    parts = [p for p in (tag.cable, tag.cores) if p]
-    return " ".join(parts) if parts else None
+    """The cable label with its cores: ``C-101 (1+ 2- S)``."""
+    if tag.cable and tag.cores:
+        return f"{tag.cable} ({tag.cores})"
+    return tag.cable or tag.cores
 
 
 def has_polarity(tag: Tag) -> bool:

@@ -15,7 +15,7 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 
-from loopdocs.draw.geometry import Drawing, Frame, PlacedSymbol, PlacedText, Point, Rect
+from loopdocs.draw.geometry import Drawing, Frame, PlacedSymbol, PlacedText, Point, Rect, SignalLine
 from loopdocs.draw.symbols import instrument_bubble, load_symbol
 from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm, wrap_text
 from loopdocs.model.records import Tag
@@ -33,6 +33,11 @@ ENCLOSURE_PAD_MM = 2.0
 SERVICE_WRAP_MM = 36.0
 PIPE_STUB_MM = 5.0
 """Length of the pipe drawn on each side of an in-line device."""
+SUPPLY_LEAD_MM = 4.0
+"""Length of a 4-wire device's supply line above its bubble."""
+EARTH_DROP_MM = 1.5
+"""Lead from a device or terminal down to a screen's earth symbol."""
+MINUS = "\u2212"
 
 _DISPLAY_BY_PLATFORM = {Platform.DCS: "shared", Platform.PLC: "plc", Platform.SIS: "plc",
                         Platform.COMPUTER: "computer", Platform.DEVICE: "discrete"}
@@ -173,23 +178,52 @@ def service_lines(tag: Tag, loop_service: str | None) -> list[str]:
     return wrap_text(tag.service, SERVICE_WRAP_MM, TEXT_MM, max_lines=4, balanced=True)
 
 
+def earth_at(drawing: Drawing, point: Point, name: str) -> Rect:
+    """A screen's earth symbol hung on a thin lead below ``point``, ``screen`` written
+    beside it; returns the box of what it adds."""
+    symbol = load_symbol("earth")
+    tap = (point[0], point[1] + EARTH_DROP_MM)
+    placed = PlacedSymbol(symbol, tap[0], tap[1], anchor="tap", role="earth", ports_used=("tap",), name=name)
+    drawing.symbols.append(placed)
+    drawing.lines.append(SignalLine("connection", (point, tap), "screen-earth"))
+    box = placed.box
+    text = label("screen", box.right + 0.6, box.bottom, "start", "screen")
+    drawing.texts.append(text)
+    return Rect.union([box, text.box])
+
+
 def instrument_cluster(tag: Tag, band: str, above: Iterable[str | None] = (), below: Iterable[str] = (),
                        right: Iterable[str] = (), right_above: str | None = None,
-                       enclosure_title: str | None = None, pad_mm: float = 0.0) -> Cluster:
+                       enclosure_title: str | None = None, pad_mm: float = 0.0,
+                       supply: str | None = None, earth: bool = False) -> Cluster:
     """A tag bubble centred on the row line with texts above, below and to its right;
-    ``enclosure_title`` (the cabinet a rack-mounted device is in) goes top left."""
+    ``enclosure_title`` (the cabinet a rack-mounted device is in) goes top left.
+    ``supply`` (a 4-wire device's power) is drawn as an electrical line rising from the
+    bubble's top with the supply written at its end; ``earth`` hangs the cable screen's
+    earth below the bubble (Shield field or both)."""
     drawing = Drawing()
     placed, texts = bubble(tag, band, "instrument")
     drawing.symbols.append(placed)
     drawing.texts += texts
     box = placed.box
+    top_y = box.y
+    if supply:
+        top = placed.port("top")
+        end = (top[0], top[1] - SUPPLY_LEAD_MM)
+        drawing.lines.append(SignalLine("electrical", (top, end), "power-supply"))
+        text = label(supply, end[0] + 0.8, end[1] + ASCENT_EM * TEXT_MM, "start", "power-supply")
+        drawing.texts.append(text)
+        top_y = end[1]
     above_lines = [line for line in above if line]
     if above_lines:
-        top = box.y - 1.0 - stack_height(len(above_lines))
+        top = top_y - 1.0 - stack_height(len(above_lines))
         drawing.texts += stack_lines(above_lines, 0.0, top, "middle", "annotation")
+    bottom_y = box.bottom
+    if earth:
+        bottom_y = earth_at(drawing, placed.port("bottom"), f"earth:{tag.tag}").bottom
     below_lines = [line for line in below if line]
     if below_lines:
-        drawing.texts += stack_lines(below_lines, 0.0, box.bottom + 1.0, "middle", "annotation")
+        drawing.texts += stack_lines(below_lines, 0.0, bottom_y + 1.0, "middle", "annotation")
     right_lines = [line for line in right if line]
     if right_lines:
         top = -stack_height(len(right_lines)) / 2
@@ -206,10 +240,11 @@ def instrument_cluster(tag: Tag, band: str, above: Iterable[str | None] = (), be
 
 
 def terminal_cluster(kind: str, terminals: str | None, titles: list[str], name: str,
-                     show_strip: bool = True) -> Cluster:
+                     show_strip: bool = True, polarity: bool = False, earth: bool = False) -> Cluster:
     """One terminal unit (``terminal-jb`` or ``terminal-cabinet``) on the row line, its
-    numbers in the unit, the strip (``X1`` of ``X1:11-12``, when ``show_strip``) and the
-    enclosure name above."""
+    numbers in the unit (``51+ 52−`` with ``polarity``), the strip (``X1`` of
+    ``X1:11-12``, when ``show_strip``) and the enclosure name above; ``earth``: the cable
+    screen earthed here, the earth symbol hung below the unit."""
     drawing = Drawing()
     symbol = load_symbol(kind)
     placed = PlacedSymbol(symbol, 0.0, 0.0, anchor="wire-left", role="terminal", tag=None,
@@ -218,6 +253,16 @@ def terminal_cluster(kind: str, terminals: str | None, titles: list[str], name: 
     strip, numbers = None, terminals
     if terminals and ":" in terminals:
         strip, numbers = terminals.rsplit(":", 1)
+    if polarity:
+        # + above and - below the wire where it lands (the first terminal of the pair takes
+        # the + core, as the Cores text lists them), outside the unit: its number area is
+        # too narrow for both numbers with their signs at 2.5 mm
+        x, y = placed.port("wire-left")
+        drawing.texts.append(label("+", x - 0.6, y - 0.3 - 0.4 - DESCENT_EM * TEXT_MM, "end", "polarity", name))
+        drawing.texts.append(label(MINUS, x - 0.6, y + 0.3 + 0.4 + ASCENT_EM * TEXT_MM, "end", "polarity", name))
+    if earth:
+        bottom = (placed.port("label")[0], placed.box.bottom - placed.stroke_pad_mm)
+        earth_at(drawing, bottom, f"earth:{name}")
     if numbers:
         x, y = placed.port("label")
         area = symbol.text_areas["label"]
@@ -226,6 +271,23 @@ def terminal_cluster(kind: str, terminals: str | None, titles: list[str], name: 
     if above:
         box = placed.box
         drawing.texts += stack_lines(above, box.x, box.y - 0.8 - stack_height(len(above)), "start", "terminal-title")
+    return Cluster(drawing, attach_in=placed.port("wire-left"), attach_out=placed.port("wire-right"),
+                   pad_mm=ENCLOSURE_PAD_MM)
+
+
+def barrier_cluster(text: str, name: str) -> Cluster:
+    """An intrinsic-safety barrier or isolator on the row line: the ``barrier`` box with IS
+    on its field side, the Barrier text (tag and type) above it."""
+    drawing = Drawing()
+    symbol = load_symbol("barrier")
+    placed = PlacedSymbol(symbol, 0.0, 0.0, anchor="wire-left", role="barrier", ports_used=("wire-left", "wire-right", "label"),
+                          name=name)
+    drawing.symbols.append(placed)
+    x, y = placed.port("label")
+    drawing.texts.append(label("IS", x, y, "middle", "barrier-mark", owner=name, fit=symbol.text_areas["label"][2]))
+    lines = wrap_text(text, 30.0, TEXT_MM, max_lines=2, balanced=True)
+    box = placed.box
+    drawing.texts += stack_lines(lines, box.x, box.y - 0.6 - stack_height(len(lines)), "start", "barrier")
     return Cluster(drawing, attach_in=placed.port("wire-left"), attach_out=placed.port("wire-right"),
                    pad_mm=ENCLOSURE_PAD_MM)
 

@@ -438,7 +438,8 @@ ACTUATORS: Mapping[ActuatorKind, ActuatorEntry] = MappingProxyType({
 _CHAINED = ("signal-in", "air-out")
 ACCESSORIES: Mapping[AccessoryKind, AccessoryEntry] = MappingProxyType({
     # drawn with its signal input on the left, so turned half a turn to face the control system
-    AccessoryKind.POSITIONER: AccessoryEntry(AccessoryKind.POSITIONER, SymbolUse("positioner", _CHAINED + ("bottom",)),
+    AccessoryKind.POSITIONER: AccessoryEntry(AccessoryKind.POSITIONER,
+                                             SymbolUse("positioner", _CHAINED + ("top", "bottom")),
                                              _signal_path_accessory, rotate_deg=180.0),
     # drawn with its signal input on the right (the letters stay upright)
     AccessoryKind.IP_CONVERTER: AccessoryEntry(AccessoryKind.IP_CONVERTER,
@@ -674,7 +675,8 @@ def _supply_line(drawing: Drawing, tag: Tag, entry_port: Point, horizontal_first
     else:
         end = (x, y + 2 * SUPPLY_DROP_MM)
         drawing.lines.append(SignalLine("pneumatic", tuple(points + [end]), "air-supply"))
-    text = label(air_supply_text(tag), end[0], end[1] + 0.6 + ASCENT_EM * TEXT_MM, "middle", "air-supply")
+    gap = LINE_HALF_WIDTH_MM["pneumatic"] + 0.4
+    text = label(air_supply_text(tag), end[0] - 1.0, end[1] + gap + ASCENT_EM * TEXT_MM, "start", "air-supply")
     drawing.texts.append(text)
     return text.box.bottom
 
@@ -712,8 +714,10 @@ def _yoke_devices(drawing: Drawing, valve: PlacedSymbol, tag: Tag, kinds: list[A
     if labels:
         first = drawing.symbols[-len(kinds)]
         bottom = first.box.y - 0.6
-        drawing.texts += stack_lines(labels, first.box.right, bottom - stack_height(len(labels)), "end", "accessory")
+        texts = stack_lines(labels, first.box.right, bottom - stack_height(len(labels)), "end", "accessory")
+        drawing.texts += texts
         top = bottom - stack_height(len(labels))
+        left = min([left] + [t.box.x for t in texts])
     return left, top
 
 
@@ -808,9 +812,8 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
         left_x, _ = _yoke_devices(drawing, valve, tag, yoke, accessory_tags)
 
     box = valve.box
-    lowest = box.bottom
-    if BODIES[body].branch:
-        lowest = max(lowest, valve.port("branch")[1] + PIPE_STUB_MM)
+    # below the body and any pipe leaving it downwards (angle inlet, three-way branch)
+    lowest = max([box.bottom] + [p[1] + 0.4 for line in drawing.lines if line.role == "pipe" for p in line.points])
     y = lowest + 0.8
     if tag.fail_position is not None:
         drawing.texts += stack_lines([tag.fail_position.value], stem_x, y, "middle", "fail-position")
@@ -831,7 +834,9 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
         if coil_first:
             entry_port, across = first.port("signal-in"), True
         else:
-            entry_port, across = first.port("bottom"), False
+            # the lower of its top and bottom ports once placed (the positioner is turned half a turn)
+            ends = [first.port(p) for p in ("top", "bottom") if p in first.symbol.ports]
+            entry_port, across = max(ends, key=lambda p: p[1]), False
         supply_bottom = _supply_line(drawing, tag, entry_port, across, regulator)
         supply_x = entry_port[0] + (AIR_GAP_MM + 1.0 if across else 0.0)
         y = max(y, supply_bottom + 0.8)

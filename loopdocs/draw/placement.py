@@ -19,11 +19,20 @@ from __future__ import annotations
 from collections.abc import Iterable
 from dataclasses import dataclass
 
+from loopdocs.draw.annotations import (
+    alarm_text,
+    area_text,
+    interlock_text,
+    power_text,
+    set_point_text,
+    switch_setting_text,
+)
 from loopdocs.draw.clusters import (
     ENCLOSURE_PAD_MM,
     Cluster,
     TEXT_MM,
     TITLE_MM,
+    barrier_cluster,
     instrument_cluster,
     io_cluster,
     label,
@@ -39,6 +48,7 @@ from loopdocs.draw.stations import (
     BAND_TITLES,
     COLUMNS,
     WIRE_OFFSET_MM,
+    BarrierStation,
     ElementStation,
     FunctionStation,
     InstrumentStation,
@@ -53,6 +63,9 @@ from loopdocs.draw.stations import (
     band_of,
 )
 from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm
+from loopdocs.model.records import Tag
+from loopdocs.model.tagname import TagKind
+from loopdocs.model.vocab import Shield
 
 MARGIN_MM = 3.0
 HEADER_MM = 8.0
@@ -98,13 +111,16 @@ def _draw_station(st: Station, r: int, title: str | None, show_strip: bool, has_
         case TerminalStation():
             kind = "terminal-jb" if st.column == "J" else "terminal-cabinet"
             return terminal_cluster(kind, st.terminals, [title] if title else [],
-                                    name=f"terminal:{st.column}:{r}", show_strip=show_strip)
+                                    name=f"terminal:{st.column}:{r}", show_strip=show_strip,
+                                    polarity=st.polarity, earth=st.earth)
+        case BarrierStation():
+            return barrier_cluster(st.text, name=f"barrier:{r}")
         case IoStation():
             return io_cluster(st.heading, st.address, list(st.notes), name=f"io:{r}")
         case ElementStation():
             return element_cluster(st.tag, st.measuring, tagged=st.tagged)
         case ValveStation():
-            return valve_cluster(st.tag, service)
+            return valve_cluster(st.tag, service, accessory_tags=st.accessory_tags)
         case RelayStation():
             tag = st.tag
             return instrument_cluster(
@@ -114,16 +130,27 @@ def _draw_station(st: Station, r: int, title: str | None, show_strip: bool, has_
             tag = st.tag
             right = [f"{tag.control_action.value} acting"] if tag.control_action is not None else []
             rng = range_text(tag)
-            return instrument_cluster(tag, band_of(tag), right=right + ([rng] if rng else []))
+            settings = [t for t in (set_point_text(tag), alarm_text(tag), interlock_text(tag)) if t]
+            return instrument_cluster(tag, band_of(tag), right=right + ([rng] if rng else []) + settings)
         case InstrumentStation():
             tag = st.tag
-            above: list[str | None] = [range_text(tag)]
+            above: list[str | None] = [range_text(tag), *_device_settings(tag)]
             lines = service_lines(tag, service)
             pad = ENCLOSURE_PAD_MM if st.enclosure else 0.0
+            field_earth = tag.shield in (Shield.FIELD, Shield.BOTH) and not has_taps
             if has_taps:  # the transmitter's bottom takes the low-pressure impulse line
                 above, lines = [*lines, *above], []
-            return instrument_cluster(tag, band_of(tag), above=above, below=lines, enclosure_title=title, pad_mm=pad)
+            return instrument_cluster(tag, band_of(tag), above=above, below=lines, enclosure_title=title, pad_mm=pad,
+                                      supply=power_text(tag), earth=field_earth)
     raise TypeError(f"no drawing for station {type(st).__name__}")
+
+
+def _device_settings(tag: Tag) -> list[str]:
+    """What a transmitter, switch or indicator shows above its bubble besides its range:
+    a switch's trip and reset, alarm settings, interlock, the hazardous area (field)."""
+    setting = switch_setting_text(tag) if tag.kind is TagKind.SWITCH else set_point_text(tag)
+    area = area_text(tag) if band_of(tag) == "field" else None
+    return [t for t in (setting, alarm_text(tag), interlock_text(tag), area) if t]
 
 
 def _build_clusters(rows: list[Row], parts: LoopParts) -> None:

@@ -13,6 +13,7 @@ the controller. A row is a list of stations (one per column it occupies) and the
 - :class:`FunctionStation` -- the controller or indicator the loop's lines meet at;
 - :class:`ValveStation` -- a final element;
 - :class:`TerminalStation` -- a junction-box or cabinet terminal;
+- :class:`BarrierStation` -- an intrinsic-safety barrier or isolator in the cabinet;
 - :class:`IoStation` -- an I/O channel of the control system.
 
 Rows are built from records only (:func:`build_rows`); what each station draws is a
@@ -27,11 +28,20 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from loopdocs.draw.annotations import cable_text, has_polarity
 from loopdocs.draw.clusters import Cluster
-from loopdocs.draw.devices import MEASURING, MeasuringKind, measuring_kind, sensor_kind
+from loopdocs.draw.devices import (
+    MEASURING,
+    AccessoryKind,
+    MeasuringKind,
+    accessory_kinds,
+    device_kind,
+    measuring_kind,
+    sensor_kind,
+)
 from loopdocs.model.records import Project, Tag
 from loopdocs.model.tagname import TagKind
-from loopdocs.model.vocab import Location, Platform, Signal, SplitMethod
+from loopdocs.model.vocab import Location, Platform, Shield, Signal, SplitMethod
 
 WIRE_OFFSET_MM = 1.2
 """Half the distance between the + and - wires of a series loop (terminal units are 4 mm tall)."""
@@ -142,9 +152,18 @@ class FunctionStation(Station):
 
 @dataclass(kw_only=True)
 class ValveStation(Station):
-    """A final element."""
+    """A final element; ``accessory_tags``: the loop's own rows for its accessories."""
 
     tag: Tag
+    accessory_tags: dict[AccessoryKind, tuple[str, ...]] | None = None
+
+
+@dataclass(kw_only=True)
+class BarrierStation(Station):
+    """An intrinsic-safety barrier or isolator (the Barrier column) in the cabinet, between
+    the field cable and the I/O."""
+
+    text: str
 
 
 @dataclass(kw_only=True)
@@ -152,6 +171,10 @@ class TerminalStation(Station):
     """A junction-box (column ``J``) or cabinet (``C0``) terminal, ``X3:51-52``."""
 
     terminals: str | None
+    polarity: bool = False
+    """Mark the pair + and - (the Cores text gives the polarity)."""
+    earth: bool = False
+    """The cable screen is earthed here (Shield cabinet or both, at the cabinet terminal)."""
 
     def pair(self) -> tuple[str, str] | None:
         """The two terminal numbers (``X3:51-52`` -> ``('51', '52')``)."""
@@ -319,16 +342,45 @@ def loop_parts(project: Project, loop_id: str) -> LoopParts:
                      [(r, fed[r.tag]) for r in relays if fed[r.tag]], direct, project.loops[loop_id].service)
 
 
+_ACCESSORY_LETTERS: dict[AccessoryKind, tuple[str, ...]] = {
+    AccessoryKind.LIMIT_SWITCH: ("ZSO", "ZSC", "ZSH", "ZSL"),
+    AccessoryKind.POSITION_TRANSMITTER: ("ZT",),
+    AccessoryKind.SOLENOID: ("XY",),
+}
+"""Letters of the index rows that are a valve's accessories (ISA-5.1: Z position, S switch,
+T transmit; X unclassified with Y relay for a solenoid valve, common practice; ZSO/ZSC for
+open and closed limit switches, common practice beside ISA-5.1's ZSH/ZSL)."""
+
+
+def accessory_tags(valve: Tag, loop_tags: list[Tag]) -> dict[AccessoryKind, tuple[str, ...]]:
+    """The loop's rows that are this valve's accessories: the letters above with the
+    valve's suffix (``XY-4120`` for ``FV-4120``; ``ZSO-4120A`` for ``FV-4120A``), for the
+    accessories the valve's Accessories cell lists."""
+    found: dict[AccessoryKind, tuple[str, ...]] = {}
+    for kind in accessory_kinds(valve):
+        letters = _ACCESSORY_LETTERS.get(kind, ())
+        names = tuple(t.tag for t in loop_tags
+                      if t.parts.letters in letters and t.parts.suffix == valve.parts.suffix and t is not valve)
+        if names:
+            found[kind] = names
+    return found
+
+
 def _wiring(tag: Tag, io: IoChannel | None, rack_device: bool) -> list[Station]:
-    """Junction-box terminal, cabinet terminal and I/O stations on the way of one signal."""
+    """Junction-box terminal, cabinet terminal, barrier and I/O stations on the way of one
+    signal."""
     stations: list[Station] = []
+    polarity = has_polarity(tag)
     if tag.jb:
-        stations.append(TerminalStation(column="J", terminals=tag.jb_terminals,
+        stations.append(TerminalStation(column="J", terminals=tag.jb_terminals, polarity=polarity,
                                         key=("J", tag.jb, tag.jb_terminals or tag.tag), enclosure=tag.jb))
     if tag.cabinet_terminals or (tag.cabinet and not rack_device):
-        stations.append(TerminalStation(column="C0", terminals=tag.cabinet_terminals,
+        stations.append(TerminalStation(column="C0", terminals=tag.cabinet_terminals, polarity=polarity,
+                                        earth=tag.shield in (Shield.CABINET, Shield.BOTH),
                                         key=("C0", tag.cabinet or "", tag.cabinet_terminals or tag.tag),
                                         enclosure=tag.cabinet))
+    if tag.barrier and not rack_device:
+        stations.append(BarrierStation(column="C1", text=tag.barrier, key=("barrier", tag.tag), enclosure=tag.cabinet))
     if io is not None:
         stations.append(IoStation(column="S0", heading=io.heading, address=io.address, key=("S0", io.address)))
     return stations
@@ -352,8 +404,10 @@ def _input_row(tag: Tag, parts: LoopParts, linked: bool) -> Row:
     sensor_label = None
     if tag.sensor is not None:
         sensor_label = "RTD" if tag.sensor.is_rtd else "TC"
+    own_part = device_kind(tag)
     if element is not None:
-        station = ElementStation(column="F0", tag=element, measuring=measuring_kind(element, feeds_transmitter=True),
+        station = ElementStation(column="F0", tag=element,
+                                 measuring=measuring_kind(element, feeds_transmitter=True, transmitter=tag),
                                  key=("element", element.tag))
         flow = station.impulse_taps  # impulse lines: a connection to the process, no signal label
         head.append(station)
@@ -364,10 +418,14 @@ def _input_row(tag: Tag, parts: LoopParts, linked: bool) -> Row:
                                    key=("sensor", tag.tag)))
         # the sensor's own cable runs to a transmitter mounted away from the field
         head_segment = Segment("electrical", above=None if column in ("F1", "L") else tag.cable, below=sensor_label)
+    elif own_part is not None and column != "F0":
+        # the sensing part of a device with an integral element (radar antenna, meter body)
+        head.append(ElementStation(column="F0", tag=tag, measuring=own_part, tagged=False, key=("sensor", tag.tag)))
+        head_segment = Segment("connection")
     io = None
     if tag.io_address:
         host = _host(fn.platform if linked and fn is not None else tag.platform)
-        io = IoChannel(f"{host} {_channel(tag, False)}".strip(), tag.io_address)
+        io = IoChannel(f"{host} {_channel(tag, tag.kind is TagKind.RELAY)}".strip(), tag.io_address)
     device = InstrumentStation(column=column, tag=tag, key=("device", tag.tag),
                                enclosure=tag.cabinet if column == "C1" else None)
     stations = head + _order([device] + _wiring(tag, io, rack_device=(column == "C1")))
@@ -382,7 +440,7 @@ def _input_row(tag: Tag, parts: LoopParts, linked: bool) -> Row:
             segments.append(Segment(kind))
     if at < len(segments):
         if not (head and head_segment is not None and head_segment.above):
-            segments[at].above = tag.cable
+            segments[at].above = cable_text(tag)
         segments[at].below = _signal_text(tag.signal)
     element_tags = (element.tag,) if element is not None else ()
     return Row(stations, segments, "input", linked=linked,
@@ -401,7 +459,8 @@ def _output_row(valve: Tag, relay: Tag | None, parts: LoopParts) -> Row:
     driver = relay or valve
     fn = _driving_function(driver, parts)
     linked = fn is not None
-    stations: list[Station] = [ValveStation(column="F0", tag=valve, key=("valve", valve.tag))]
+    stations: list[Station] = [ValveStation(column="F0", tag=valve, key=("valve", valve.tag),
+                                            accessory_tags=accessory_tags(valve, parts.tags))]
     segments: list[Segment] = []
     if relay is not None:
         stations.append(RelayStation(column=_column_of_device(relay), tag=relay, key=("device", relay.tag)))
@@ -421,7 +480,7 @@ def _output_row(valve: Tag, relay: Tag | None, parts: LoopParts) -> Row:
         segments.append(Segment(kind))
     first = 1 if relay is not None else 0
     if first < len(segments):
-        segments[first].above = driver.cable
+        segments[first].above = cable_text(driver)
         segments[first].below = _signal_text(feed)
     fn_in_control = fn is not None and band_of(fn) == "control"
     tail = "data" if fn_in_control and io is not None else kind
@@ -446,8 +505,13 @@ def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, in
 
     rows: list[Row] = []
     unlinked: list[Row] = []
+    fn_column = COLUMNS.index(_column_of_device(fn)) if fn is not None else len(COLUMNS)
     for tag in parts.inputs:
         row = _input_row(tag, parts, linked_input(tag))
+        if row.linked and row.stations and COLUMNS.index(row.stations[-1].column) >= fn_column:
+            # its wiring reaches past the function (an I/O channel beyond a local-panel
+            # controller): drawn below the linked rows, so the bus into the function never crosses it
+            row.linked = False
         (rows if row.linked else unlinked).append(row)
     output_start = len(rows)
     for relay, valves in parts.relays:
@@ -455,7 +519,8 @@ def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, in
         rows.append(_output_row(valves[0], relay, parts))
         for valve in valves[1:]:
             kind = line_kind(valve.signal)
-            rows.append(Row([ValveStation(column="F0", tag=valve, key=("valve", valve.tag))], [], "branch",
+            rows.append(Row([ValveStation(column="F0", tag=valve, key=("valve", valve.tag),
+                                          accessory_tags=accessory_tags(valve, parts.tags))], [], "branch",
                             linked=False, tail_kind=kind, branch_of=lead, tags=(valve.tag,)))
     for valve in parts.direct_outputs:
         rows.append(_output_row(valve, None, parts))
@@ -477,6 +542,10 @@ def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, in
             last = host.stations[-1]
             if host.merge is not None or COLUMNS.index(last.column) >= COLUMNS.index(station.column):
                 fn_row = None
+        if fn_row is not None and _bus_crossed(rows, fn_row, COLUMNS.index(station.column)):
+            # another output's wiring runs past the function between the rows the bus joins
+            # (its own I/O beyond a local-panel controller): drawn below the linked rows
+            fn_row = _move_crossing_rows_down(rows, fn_row, COLUMNS.index(station.column))
         if fn_row is None:
             fn_row = len(rows)
             rows.append(Row([], [], "other"))
@@ -497,6 +566,41 @@ def build_rows(project: Project, loop_id: str) -> tuple[list[Row], LoopParts, in
                             tags=(element.tag,)))
     rows += unlinked
     return rows, parts, fn_row
+
+
+def _bus_crossed(rows: list[Row], fn_row: int, fn_column: int) -> bool:
+    """Whether a row between the function's row and a linked row it joins runs its line
+    past the function's column (the bus would cross it)."""
+    joining = [i for i, r in enumerate(rows) if i != fn_row and r.linked and not r.ends_at_connector()]
+    if not joining:
+        return False
+    lo, hi = min(joining + [fn_row]), max(joining + [fn_row])
+    return any(COLUMNS.index(rows[k].stations[-1].column) >= fn_column
+               for k in range(lo + 1, hi) if k != fn_row and k not in joining and rows[k].stations)
+
+
+def _move_crossing_rows_down(rows: list[Row], fn_row: int, fn_column: int) -> int:
+    """Move each row that the function's bus would cross, and that no other row joins, to
+    the bottom of the rows; returns the function's row index after the moves."""
+    while _bus_crossed(rows, fn_row, fn_column):
+        joining = [i for i, r in enumerate(rows) if i != fn_row and r.linked and not r.ends_at_connector()]
+        lo, hi = min(joining + [fn_row]), max(joining + [fn_row])
+        movable = [k for k in range(lo + 1, hi) if k != fn_row and k not in joining and rows[k].stations
+                   and COLUMNS.index(rows[k].stations[-1].column) >= fn_column
+                   and rows[k].merge is None and rows[k].branch_of is None
+                   and not any(r.merge_row == k or r.branch_of == k for r in rows)]
+        if not movable:
+            break
+        k = movable[0]
+        row = rows.pop(k)
+        rows.append(row)
+        for r in rows:
+            if r.merge is not None and r.merge[0] > k:
+                r.merge = (r.merge[0] - 1, r.merge[1])
+            if r.branch_of is not None and r.branch_of > k:
+                r.branch_of -= 1
+        fn_row = fn_row - 1 if fn_row > k else fn_row
+    return fn_row
 
 
 def _attach_to_driven_row(rows: list[Row], start: int, function: Tag, station: Station) -> bool:
