@@ -20,7 +20,7 @@ from loopdocs.core.findings import Acceptance, Finding, Severity
 from loopdocs.calibration.presentation import distinct_points
 from loopdocs.core.formatting import fmt_number
 from loopdocs.render.caltables import display_tables
-from loopdocs.render.pdf import JsonAttachment, ProjectFetcher, html_to_pdf
+from loopdocs.render.pdf import JsonAttachment, ProjectFetcher, html_to_pdf, sheet_pdf
 from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
 from loopdocs.render.pieces import loop_pieces
 from loopdocs.render.settings import PAPERS, sheet_settings
@@ -275,7 +275,7 @@ def test_sheet_uses_few_line_widths(t3105_pdf):
 def test_paper_size_from_config(example, size, width_mm, height_mm):
     settings = sheet_settings({"size": size})
     assert (settings.paper.width_mm, settings.paper.height_mm) == pytest.approx((width_mm, height_mm))
-    pdf = html_to_pdf(sheet_html(pieces_of(example, "T-3110"), frame_of(example, settings)))
+    pdf = sheet_pdf(pieces_of(example, "T-3110"), frame_of(example, settings))
     box = PdfReader(io.BytesIO(pdf)).pages[0].mediabox
     assert float(box.width) * MM_PER_PT == pytest.approx(width_mm, abs=0.1)
     assert float(box.height) * MM_PER_PT == pytest.approx(height_mm, abs=0.1)

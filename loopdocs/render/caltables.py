@@ -4,7 +4,7 @@ terminal and the workbook show) with their widths and heights on the sheet.
 
 Nothing is worded or computed here beyond layout: column widths are measured with the
 font's advance widths (``loopdocs.draw.text``), heights estimated from the wrapped
-caption and notes, and the tables are packed under the diagram (:func:`packing_order`).
+caption and notes; ``render.packing`` places them on the sheet by these sizes.
 """
 
 from __future__ import annotations
@@ -17,6 +17,11 @@ from loopdocs.calibration.presentation import TableView, present_tables
 
 TABLE_TEXT_MM = 2.5
 """Font size of the calibration tables (dense tables: 1.82 mm capitals)."""
+CAPTION_TAG_MM = 3.5
+"""Font size of the tag at the head of a table's caption (``sheet.css`` ``table.cal caption .tag``)."""
+SPARE_MM = 3.5
+"""Added to the estimated height of a table: the estimate was within 3 mm of the
+rendered height for every table of the example project."""
 CELL_PAD_MM = 2.6
 """Left and right cell padding plus the rule, per column (``sheet.css`` ``table.dense``)."""
 MIN_TABLE_MM = 56.0
@@ -33,6 +38,12 @@ class DisplayTable:
     rows: tuple[tuple[str, ...], ...]
     tolerance: str = ""
     notes: tuple[str, ...] = ()
+    text_columns: tuple[int, ...] = ()
+    """Columns of words, set left aligned (the others hold numbers, right aligned)."""
+
+    def align(self, column: int) -> str:
+        """``text`` or ``num``: the CSS class of a column's cells."""
+        return "text" if column in self.text_columns else "num"
 
     @property
     def column_widths_mm(self) -> tuple[float, ...]:
@@ -56,15 +67,26 @@ class DisplayTable:
 
     @property
     def height_mm(self) -> float:
-        """Estimated height: caption, two-line heads, rows, notes (wrapped to the width)."""
-        from loopdocs.draw.text import wrap_text
+        """Height as printed (``sheet.css`` ``table.dense``, ``table.cal``): the caption
+        (tag in 3.5 mm type, words and tolerance wrapped to the width), the heads at
+        their column widths, one line per row, the notes wrapped; each cell line 1.15 x
+        the type, 0.8 mm padding and a 0.25 mm rule per row (within 2 mm of rendered
+        tables, tests/test_render.py, with ``SPARE_MM`` added)."""
+        from loopdocs.draw.text import text_width_mm, wrap_text
 
         line = TABLE_TEXT_MM * 1.15
+        rule = 0.8 + 0.25
         inner = max(self.width_mm - CELL_PAD_MM, 10.0)
-        caption = 4.5 + (line * len(wrap_text(f"tolerance {self.tolerance}", inner, TABLE_TEXT_MM)) if self.tolerance else 0)
-        notes = sum(len(wrap_text(n, inner, TABLE_TEXT_MM)) for n in self.notes) * line
-        # rows: line, padding 0.8 mm and rule; 10 % to spare (checked against rendered tables)
-        return 1.1 * (caption + 2 * line + len(self.rows) * (line + 1.05) + notes) + 3.0
+        tag_mm = text_width_mm(self.tag + " ", CAPTION_TAG_MM, bold=True)
+        title_lines = wrap_text(" " * round(tag_mm / (TABLE_TEXT_MM * 0.318)) + self.title, self.width_mm,
+                                TABLE_TEXT_MM) if self.title else [""]
+        caption = CAPTION_TAG_MM * 1.15 + line * (len(title_lines) - 1) + 0.6
+        if self.tolerance:
+            caption += line * len(wrap_text(f"tolerance {self.tolerance}", self.width_mm, TABLE_TEXT_MM))
+        head_lines = max((len(wrap_text(h, w - CELL_PAD_MM + 0.2, TABLE_TEXT_MM, bold=True))
+                          for h, w in zip(self.heads, self.column_widths_mm)), default=1)
+        notes = sum(len(wrap_text(n, inner, TABLE_TEXT_MM)) for n in self.notes) * line + (rule if self.notes else 0.0)
+        return round(caption + head_lines * line + rule + len(self.rows) * (line + rule) + notes + SPARE_MM, 1)
 
 
 def display_table(view: TableView) -> DisplayTable:
@@ -77,13 +99,3 @@ def display_tables(tables: Sequence[CalibrationTable]) -> list[DisplayTable]:
     """The printed tables of one loop in the order given (loop checks of one split group
     side by side, ``presentation.present_tables``)."""
     return [display_table(view) for view in present_tables(tables)]
-
-
-def packing_order(tables: Sequence[DisplayTable], room_mm: float) -> list[DisplayTable]:
-    """The order to lay the tables out in, as floats under the diagram: those that fit the
-    height left on the page first, each group tallest first (floats never go above an
-    earlier one, so tall-first packs tightest and a table too tall for the page does not
-    drag the others onto the next one)."""
-    fits = [t for t in tables if t.height_mm <= room_mm]
-    rest = [t for t in tables if t.height_mm > room_mm]
-    return sorted(fits, key=lambda t: -t.height_mm) + sorted(rest, key=lambda t: -t.height_mm)

@@ -20,7 +20,7 @@ from urllib.parse import unquote, urlsplit
 from weasyprint import HTML, Attachment
 from weasyprint.urls import URLFetcher
 
-from loopdocs.render.sheet import TEMPLATES_DIR, SheetFrame, SheetPieces, sheet_html
+from loopdocs.render.sheet import TEMPLATES_DIR, SheetFrame, SheetPieces, print_zoom, sheet_html
 
 PDFA_VARIANT = "pdf/a-3b"
 
@@ -64,7 +64,8 @@ def _document(html: str, fetcher: ProjectFetcher, base_url: Path):
     return HTML(string=html, base_url=str(Path(base_url).resolve()) + "/", url_fetcher=fetcher).render()
 
 
-def _write(document, fetcher: ProjectFetcher, pdfa: bool, attachments: Sequence[JsonAttachment]) -> bytes:
+def _write(document, fetcher: ProjectFetcher, pdfa: bool, attachments: Sequence[JsonAttachment],
+           zoom: float = 1.0) -> bytes:
     files = [
         Attachment(string=a.data, name=a.name, description=a.description or None,
                    relationship="Data", url_fetcher=fetcher)
@@ -73,7 +74,7 @@ def _write(document, fetcher: ProjectFetcher, pdfa: bool, attachments: Sequence[
     options = {"attachments": files or None, "pdf_identifier": True if pdfa else None}
     if pdfa:
         options["pdf_variant"] = PDFA_VARIANT
-    return document.write_pdf(**options)
+    return document.write_pdf(zoom=zoom, **options)
 
 
 def html_to_pdf(
@@ -104,9 +105,11 @@ def sheet_pdf(
     pdfa: bool = False,
     attachments: Sequence[JsonAttachment] = (),
 ) -> bytes:
-    """One loop sheet as PDF (a sheet that runs over continues on a second page)."""
+    """One loop sheet as PDF (a sheet whose tables do not fit continues them on a second
+    page); an A4 sheet is the A3 layout printed at half size (``sheet.print_zoom``)."""
     fetcher = ProjectFetcher([TEMPLATES_DIR, *allowed_dirs])
-    return _write(_document(sheet_html(pieces, frame), fetcher, TEMPLATES_DIR), fetcher, pdfa, attachments)
+    return _write(_document(sheet_html(pieces, frame), fetcher, TEMPLATES_DIR), fetcher, pdfa, attachments,
+                  print_zoom(frame.settings))
 
 
 def quiet_weasyprint() -> None:

@@ -141,9 +141,11 @@ def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], spl
     groups = loop_groups(project, loop_id, splits)
     part = loop_project(project, loop_id, state)
     calibrations = loop_calibrations(project, loop_id, state, part)
+    own = {t.tag for t in tags}
     pieces = SheetPieces(
         loop=loop,
         tags=tags,
+        linked_tags=tuple(part.tags[name] for name in part.tags if name not in own),
         diagram_svg=loop_diagram_svg(part, loop_id),
         range_charts_svg=tuple(svg for _, svg in loop_charts(part, loop_id, findings)),
         calibrations=calibrations,

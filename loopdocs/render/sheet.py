@@ -34,8 +34,10 @@ from loopdocs.core.wording import CAUTION
 from loopdocs.model.records import Loop, Tag
 from loopdocs.read.project_file import TitleBlock
 from loopdocs.core.formatting import fmt_number
-from loopdocs.render.caltables import display_tables, packing_order
-from loopdocs.render.settings import Revision, SheetSettings
+from loopdocs.render.caltables import DisplayTable, display_tables
+from loopdocs.render.packing import Box, Placed, pack_pages, used_height_mm
+from loopdocs.render.settings import PAPERS, Paper, Revision, SheetSettings
+from loopdocs.render.trip_settings import settings_table
 
 TEMPLATES_DIR = Path(__file__).resolve().parent.parent / "templates"
 
@@ -54,6 +56,9 @@ class SheetPieces:
     calibrations: Sequence[CalibrationTable] = ()
     """Calibration tables of the loop's instruments and final elements (``loopdocs.calibration.project_tables``)."""
     findings: Sequence[Finding] = ()
+    linked_tags: Sequence[Tag] = ()
+    """Tags of other loops linked to this loop's tags by Driven By (``pieces.linked_tags``):
+    their alarm and trip settings are printed with the loop's."""
 
 
 @dataclass(frozen=True)
@@ -223,41 +228,45 @@ def environment():
 
 FRAME_INSET_MM = 0.7 + 3.0
 """Frame line (0.7 mm) and the padding inside it (``sheet.css`` ``@page``)."""
+SIDE_WIDTH_MM = 100.0
+"""Side column: status, tags, findings, notes, caution, revisions, title block."""
 SIDE_GAP_MM = 4.0
 BODY_TEXT_MM = 3.5
 """Body font size (2.55 mm capitals); notes and findings are set in it."""
 BODY_LINE_MM = BODY_TEXT_MM * 1.2
+STATUS_MM = 34.0
+"""The not-for-construction or release box at the top of the side column."""
+HEADER_MM = 1.0
+"""Kept free at the foot of the drawing area (rounding of the packed heights); the loop
+id heads the side column."""
+LOOP_HEAD_MM = 22.0
+"""Loop id (6.9 mm type) and service (two lines of body type) at the top of the side
+column, with its rule and space (``sheet.css`` ``.loop-head``)."""
+HALF_SIZE = {"A4": "A3"}
+"""Papers that print the layout of a larger one at half size (A4 is A3 at 1:√2, ISO 216)."""
 
 
-STRIP_MM = 44.0
-"""Height of the strip that holds caution, revisions and title block on A4 (below the frame)."""
-FLOAT_GAP_MM = 4.0
-"""Space right of and below each float of the drawing area (``sheet.css`` ``.pack``)."""
-HEADER_MM = 13.0
-"""Loop id line at the top of the sheet, with its rule and spacing."""
+def layout_paper(settings: SheetSettings) -> Paper:
+    """The paper the sheet is laid out on: A3 for an A4 print (half size), else its own."""
+    return PAPERS[HALF_SIZE.get(settings.paper.name, settings.paper.name)]
 
 
-def uses_strip(settings: SheetSettings) -> bool:
-    """A4 is too narrow for a side column beside a loop diagram: it gets a bottom strip."""
-    return settings.paper.name == "A4"
+def print_zoom(settings: SheetSettings) -> float:
+    """Scale from the layout to the paper printed on: 297/420 = 0.707 for A4, else 1.
 
-
-def side_width_mm(settings: SheetSettings) -> float:
-    """Width of the side column (title block, revisions, caution, notes); 0 on A4."""
-    return 0.0 if uses_strip(settings) else 100.0
+    >>> round(print_zoom(SheetSettings(size="A4")), 4), print_zoom(SheetSettings())
+    (0.7071, 1.0)
+    """
+    return settings.paper.width_mm / layout_paper(settings).width_mm
 
 
 def content_box_mm(settings: SheetSettings) -> tuple[float, float]:
-    """Width and height available to the loop diagram (inside the frame, beside the side
-    column or above the strip, below the loop id line)."""
-    paper = settings.paper
+    """Width and height available to the diagram, charts and tables of a page (inside the
+    frame, beside the side column, below the loop id line)."""
+    paper = layout_paper(settings)
     width = paper.width_mm - paper.binding_margin_mm - paper.margin_mm - 2 * FRAME_INSET_MM
     height = paper.height_mm - 2 * paper.margin_mm - 2 * FRAME_INSET_MM - HEADER_MM
-    if uses_strip(settings):
-        height -= STRIP_MM + 4.0  # and the diagram's own margin below it
-    else:
-        width -= side_width_mm(settings) + SIDE_GAP_MM
-    return width, height
+    return width - SIDE_WIDTH_MM - SIDE_GAP_MM, height
 
 
 _SVG_SIZE = re.compile(r'(<svg\b[^>]*?\bwidth=")([0-9.]+)mm("[^>]*?\bheight=")([0-9.]+)mm(")')
@@ -291,28 +300,19 @@ def fit_svg(svg: str, max_width_mm: float, max_height_mm: float) -> tuple[str, f
 
 
 def page_css(settings: SheetSettings, sheet_label: str = "") -> str:
-    """The ``@page`` rule for the configured paper (landscape, binding margin left), the
-    side column width, and ``sheet_label, page i of k`` under the frame (bottom right)."""
-    paper = settings.paper
-    side = side_width_mm(settings)
-    bottom = paper.margin_mm + (STRIP_MM if uses_strip(settings) else 0.0)
+    """The ``@page`` rule for the layout paper (landscape, binding margin left), the side
+    column width, and ``sheet_label, page i of k`` under the frame (bottom right)."""
+    paper = layout_paper(settings)
     css = (
         f"@page {{ size: {paper.width_mm}mm {paper.height_mm}mm; "
-        f"margin: {paper.margin_mm}mm {paper.margin_mm}mm {bottom}mm {paper.binding_margin_mm}mm; }}\n"
+        f"margin: {paper.margin_mm}mm {paper.margin_mm}mm {paper.margin_mm}mm {paper.binding_margin_mm}mm; }}\n"
+        f".side {{ width: {SIDE_WIDTH_MM}mm; }}\nmain {{ margin-right: {SIDE_WIDTH_MM + SIDE_GAP_MM}mm; }}\n"
+        f".watermark {{ right: {SIDE_WIDTH_MM + SIDE_GAP_MM}mm; }}\n"
     )
-    if uses_strip(settings):
-        strip_width = paper.width_mm - paper.binding_margin_mm - paper.margin_mm
-        css += ("@page { @bottom-center { content: element(strip); vertical-align: top; } }\n"
-                f".side.strip {{ height: {STRIP_MM}mm; width: {strip_width:.1f}mm; }}\n"
-                f".side.strip table.title-block {{ width: {strip_width - 56 - 72 - 5:.1f}mm; }}\n")
-    else:
-        css += (f".side {{ width: {side}mm; }}\nmain {{ margin-right: {side + SIDE_GAP_MM}mm; }}\n"
-                f".watermark {{ right: {side + SIDE_GAP_MM}mm; }}\n")
     if sheet_label:
         label = re.sub(r'[\\"<>\n\r{}]', "", sheet_label)  # inside a CSS string in <style>
-        box, align = ("top-right", "bottom; padding-bottom: 1mm") if uses_strip(settings) else ("bottom-right", "top; padding-top: 1mm")
-        css += (f'@page {{ @{box} {{ content: "{label}, page " counter(page) " of " counter(pages); '
-                f"font-size: {BODY_TEXT_MM}mm; vertical-align: {align}; }} }}\n")
+        css += (f'@page {{ @bottom-right {{ content: "{label}, page " counter(page) " of " counter(pages); '
+                f"font-size: {BODY_TEXT_MM}mm; vertical-align: top; padding-top: 1mm; }} }}\n")
     return css
 
 
@@ -322,18 +322,24 @@ def _lines(text: str, width_mm: float, size_mm: float = BODY_TEXT_MM) -> int:
     return max(1, len(wrap_text(text, width_mm, size_mm)))
 
 
-def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool) -> float:
-    """Height left in the side column for notes and findings, once the status box, the
-    caution, the revision table and the title block are in (estimated from their text
-    with the font's widths; a few mm to spare)."""
-    paper = settings.paper
-    width = side_width_mm(settings)
-    inner = paper.height_mm - 2 * paper.margin_mm - 2 * FRAME_INSET_MM
-    caution = 3.0 + 2 * 1.5 + BODY_LINE_MM * (1 + _lines(CAUTION, width - 4.7))
+TITLE_BLOCK_MM = 80.0
+"""Height of the side column's title block (``sheet.html``; 78 mm rendered)."""
+
+
+def side_bottom_mm(revision_rows: int) -> float:
+    """Height of the foot of the side column: caution (its text wrapped to the column),
+    the revision table and the title block, 3 mm to spare."""
+    caution = 3.0 + 2 * 1.5 + BODY_LINE_MM * (1 + _lines(CAUTION, SIDE_WIDTH_MM - 4.7)) + 3.0
     revisions_mm = 5.0 + 3.5 * (1 + revision_rows)
-    title_block = 66.0 if paper.name != "A4" else 62.0
-    status_mm = 34.0 if status else 0.0
-    return inner - caution - revisions_mm - title_block - status_mm - 12.0
+    return caution + revisions_mm + TITLE_BLOCK_MM + 3.0
+
+
+def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool) -> float:
+    """Height left in the side column for the tags, notes and findings, once the loop id,
+    the status box and the foot (:func:`side_bottom_mm`) are in."""
+    paper = layout_paper(settings)
+    inner = paper.height_mm - 2 * paper.margin_mm - 2 * FRAME_INSET_MM
+    return inner - LOOP_HEAD_MM - (STATUS_MM if status else 0.0) - side_bottom_mm(revision_rows)
 
 
 SECTION_MM = 10.5
@@ -346,11 +352,30 @@ def side_text_mm(texts: Sequence[str], headings: int, width_mm: float) -> float:
     return headings * SECTION_MM + sum(BODY_LINE_MM * _lines(t, width_mm - 8.0) + 0.9 for t in texts)
 
 
+def sheet_layout(diagram_mm: tuple[float, float] | None, charts_mm: Sequence[tuple[float, float]],
+                 tables: Sequence[DisplayTable], settings: SheetSettings,
+                 side_top_mm: float = 0.0, side_foot_mm: float = 0.0) -> list[list[Placed]]:
+    """Where the diagram, the range charts and the tables go, page by page
+    (``packing.pack_pages``): the diagram at the top left at its own size, the charts
+    next, the tables in the room left beside and under them, and in the side column
+    between its text at the top (``side_top_mm``) and its foot (``side_foot_mm``:
+    caution, revisions, title block). Keys: ``("diagram", 0)``, ``("chart", i)``,
+    ``("table", i)``; positions in mm from the top left of the drawing area."""
+    box_w, box_h = content_box_mm(settings)
+    side_x = box_w + SIDE_GAP_MM
+    taken = [Placed(Box("side top", SIDE_WIDTH_MM, side_top_mm), side_x, 0.0),
+             Placed(Box("side foot", SIDE_WIDTH_MM, side_foot_mm), side_x, box_h - side_foot_mm)]
+    first = [Box(("diagram", 0), *diagram_mm)] if diagram_mm else []
+    first += [Box(("chart", i), *size) for i, size in enumerate(charts_mm)]
+    rest = [Box(("table", i), t.width_mm, t.height_mm) for i, t in enumerate(tables)]
+    return pack_pages(first, rest, side_x + SIDE_WIDTH_MM, box_h, taken=taken)
+
+
 def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
     """The HTML of one loop sheet (pure: same pieces and frame, same text).
 
     Under the frame of every page: drawing number, sheet n of m, page i of k (a sheet
-    whose content runs over continues on a second page with the same side column).
+    whose tables do not fit continues them on a second page with the same side column).
     """
     from markupsafe import Markup
 
@@ -362,10 +387,14 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
     blocked = has_blocking_error(findings)
     release_reason = settings.release_reason(pieces.loop.id) if blocked else None
     calibrations = display_tables(pieces.calibrations)
+    trips = settings_table([*pieces.tags, *pieces.linked_tags])
+    tables = ([trips] if trips else []) + calibrations
     notes = [*settings.notes, *frame.extra_notes]
     if calibrations:
         notes.append("Calibration: read every point rising, then falling; the values are those expected, "
                      "within the tolerance stated with each table.")
+    if print_zoom(settings) != 1.0:
+        notes.append(f"Drawn on {layout_paper(settings).name}, printed at half size on {settings.paper.name}.")
     notes += tag_notes(pieces.tags)
     finding_views = [_finding_view(f) for f in open_findings]
     accepted_views = [_finding_view(f) for f in accepted]
@@ -375,35 +404,35 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
                    f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
     headings = 2 + bool(notes) + bool(accepted_views)
     tag_rows_mm = 3.9 * (1 + len(pieces.tags))
-    strip = uses_strip(settings)
-    room = 0.0 if strip else side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None)
+    room = side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None)
     diagram, scale = None, 1.0
-    diagram_w, diagram_h = 0.0, 0.0
     box_w, box_h = content_box_mm(settings)
     if pieces.diagram_svg:
         diagram, scale = fit_svg(trusted_svg(pieces.diagram_svg), box_w, box_h)
-        diagram_w, diagram_h = (v + FLOAT_GAP_MM for v in svg_size_mm(diagram))
     charts = [fit_svg(trusted_svg(svg), box_w, box_h)[0] for svg in pieces.range_charts_svg]
-    # Floats never go above an earlier one: a chart that fits neither beside nor under the
-    # diagram goes after the tables, so that they can fill the room beside the diagram.
-    chart_w = max((svg_size_mm(c)[0] for c in charts), default=0.0) + FLOAT_GAP_MM
-    chart_h = sum(svg_size_mm(c)[1] + FLOAT_GAP_MM for c in charts)
-    charts_first = chart_w <= box_w - diagram_w or chart_h <= box_h - diagram_h
-    calibrations = packing_order(calibrations, box_h - diagram_h - (chart_h if charts_first else 0.0))
+    side_notes = side_text_mm(side_texts or ["-"], headings, SIDE_WIDTH_MM) + tag_rows_mm <= room
+    status = not_for_construction or release_reason is not None
+    side_top = LOOP_HEAD_MM + (STATUS_MM if status else 0.0) + (
+        side_text_mm(side_texts or ["-"], headings, SIDE_WIDTH_MM) + tag_rows_mm if side_notes else 0.0)
+    pages = sheet_layout(svg_size_mm(diagram) if diagram else None, [svg_size_mm(c) for c in charts], tables,
+                         settings, side_top, side_bottom_mm(len(revisions(tb, settings))))
+    content = {"diagram": [Markup(diagram) if diagram else None], "chart": [Markup(c) for c in charts], "table": tables}
+    page_views = [{"height_mm": round(used_height_mm([p for p in page if p.x_mm < box_w]), 1),
+                   "items": [{"kind": p.box.key[0], "item": content[p.box.key[0]][p.box.key[1]],
+                              "x_mm": round(p.x_mm, 1), "y_mm": round(p.y_mm, 1),
+                              "width_mm": round(p.box.width_mm, 1)} for p in page]}
+                  for page in pages]
     sheet_label = f"{drawing_number(tb.drawing_number, pieces.loop.id)} sheet {frame.sheet_no} of {frame.sheet_count}"
     context = {
-        "paper": settings.paper,
+        "paper": layout_paper(settings),
         "page_css": Markup(page_css(settings, sheet_label)),  # ours; the label is cleaned
-        "strip": strip,
-        "side_notes": not strip and side_text_mm(side_texts or ["-"], headings, side_width_mm(settings)) + tag_rows_mm <= room,
+        "side_notes": side_notes,
         "reduced_pct": round(scale * 100) if scale < 1.0 else None,
         "loop": pieces.loop,
+        "loop_id": pieces.loop.id,
         "service": pieces.loop.service or "",
         "tags": [_tag_row(t) for t in pieces.tags],
-        "diagram": Markup(diagram) if diagram else None,
-        "charts": [Markup(svg) for svg in charts],
-        "charts_first": charts_first,
-        "calibrations": calibrations,
+        "pages": page_views,
         "open_findings": finding_views,
         "accepted": accepted_views,
         "counts": {s.value: sum(1 for f in open_findings if f.severity is s) for s in Severity},

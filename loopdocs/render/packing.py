@@ -1,0 +1,123 @@
+"""Where the boxes of a loop sheet go: the diagram, the range charts and the tables
+placed on the page at their own size, none scaled, none overlapping.
+
+:func:`pack` is a bottom-left packer over candidate corners (the classic heuristic for
+rectangle packing: each box, in the order given, goes to the highest, then leftmost,
+corner of the boxes already placed where it fits inside the area without touching
+another box). The diagram goes first, at the top left; the range charts next; the
+tables, tallest first, fill the columns beside and under them. Boxes that do not fit
+go to the next page, where the same packer continues them. Pure: sizes in mm in,
+positions in mm out.
+
+>>> placed, rest = pack([Box("d", 100, 50), Box("t1", 40, 30), Box("t2", 40, 30), Box("t3", 40, 40), Box("t4", 160, 10)], 150, 100)
+>>> [(p.box.key, p.x_mm, p.y_mm) for p in placed], [b.key for b in rest]
+([('d', 0.0, 0.0), ('t1', 104.0, 0.0), ('t2', 104.0, 34.0), ('t3', 0.0, 54.0)], ['t4'])
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+GAP_MM = 4.0
+"""Space between two boxes (right of and below each box)."""
+
+
+@dataclass(frozen=True)
+class Box:
+    """One thing to place: its key (what the template shows there) and its size in mm."""
+
+    key: Any
+    width_mm: float
+    height_mm: float
+
+
+@dataclass(frozen=True)
+class Placed:
+    box: Box
+    x_mm: float
+    y_mm: float
+
+    @property
+    def right_mm(self) -> float:
+        return self.x_mm + self.box.width_mm
+
+    @property
+    def bottom_mm(self) -> float:
+        return self.y_mm + self.box.height_mm
+
+
+def _overlaps(x: float, y: float, box: Box, other: Placed, gap_mm: float) -> bool:
+    return (x < other.right_mm + gap_mm and other.x_mm < x + box.width_mm + gap_mm
+            and y < other.bottom_mm + gap_mm and other.y_mm < y + box.height_mm + gap_mm)
+
+
+def place(box: Box, placed: Sequence[Placed], width_mm: float, height_mm: float,
+          gap_mm: float = GAP_MM) -> Placed | None:
+    """The highest, then leftmost, free corner where ``box`` fits (``None``: nowhere)."""
+    corners = {(0.0, 0.0)}
+    for p in placed:
+        corners.add((round(p.right_mm + gap_mm, 3), p.y_mm))
+        corners.add((p.x_mm, round(p.bottom_mm + gap_mm, 3)))
+        # under a box, flush with the left edge; beside it, flush with the top
+        corners.add((0.0, round(p.bottom_mm + gap_mm, 3)))
+        corners.add((round(p.right_mm + gap_mm, 3), 0.0))
+    for x, y in sorted(corners, key=lambda c: (c[1], c[0])):
+        if x + box.width_mm > width_mm + 1e-6 or y + box.height_mm > height_mm + 1e-6:
+            continue
+        if not any(_overlaps(x, y, box, p, gap_mm) for p in placed):
+            return Placed(box, x, y)
+    return None
+
+
+def pack(boxes: Sequence[Box], width_mm: float, height_mm: float, gap_mm: float = GAP_MM,
+         placed: Sequence[Placed] = ()) -> tuple[list[Placed], list[Box]]:
+    """Place ``boxes`` in order in the area (after those already ``placed``); returns the
+    placed boxes (with those given) and, in order, those that did not fit."""
+    done = list(placed)
+    rest = []
+    for box in boxes:
+        spot = place(box, done, width_mm, height_mm, gap_mm)
+        if spot is None:
+            rest.append(box)
+        else:
+            done.append(spot)
+    return done, rest
+
+
+def used_height_mm(placed: Sequence[Placed]) -> float:
+    """Height of the packed area: the bottom of its lowest box."""
+    return max((p.bottom_mm for p in placed), default=0.0)
+
+
+def _orders(boxes: Sequence[Box]) -> list[list[Box]]:
+    """Orders worth trying for the tables: as given (the reading order, kept when no
+    other packs better), tallest first (columns fill evenly), widest first."""
+    return [list(boxes), sorted(boxes, key=lambda b: -b.height_mm), sorted(boxes, key=lambda b: -b.width_mm)]
+
+
+def pack_pages(first: Sequence[Box], rest: Sequence[Box], width_mm: float, height_mm: float,
+               gap_mm: float = GAP_MM, taken: Sequence[Placed] = ()) -> list[list[Placed]]:
+    """The pages of one sheet: ``first`` (diagram, charts) placed in order on the first
+    page, then ``rest`` (tables) in the order that leaves the fewest pages and packs the
+    first page fullest; what does not fit continues on the next pages (a box larger than
+    an empty page gets a page of its own, at the top left). ``taken``: parts of every
+    page that hold something else (the side column's text), left free; not returned."""
+    best: list[list[Placed]] | None = None
+    best_score: tuple[float, ...] = ()
+    for order in _orders(rest):
+        page, left = pack(first, width_mm, height_mm, gap_mm, taken)
+        page, more = pack(order, width_mm, height_mm, gap_mm, page)
+        pages = [page[len(taken):]]
+        left = left + more
+        while left:
+            page, still = pack(left, width_mm, height_mm, gap_mm, taken)
+            if len(page) == len(taken):
+                page, still = [*taken, Placed(left[0], 0.0, 0.0)], left[1:]
+            pages.append(page[len(taken):])
+            left = still
+        score = (len(pages), -sum(p.box.width_mm * p.box.height_mm for p in pages[0]), used_height_mm(pages[-1]))
+        if best is None or score < best_score:
+            best, best_score = pages, score
+    return best or [[]]
