@@ -377,6 +377,16 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
     Under the frame of every page: drawing number, sheet n of m, page i of k (a sheet
     whose tables do not fit continues them on a second page with the same side column).
     """
+    return environment().get_template("sheet.html").render(sheet_context(pieces, frame))
+
+
+def sheet_plan(pieces: SheetPieces, frame: SheetFrame) -> list[list[Placed]]:
+    """The pages of the sheet as laid out: each page's placed diagram, charts and tables."""
+    return sheet_context(pieces, frame)["plan"]
+
+
+def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
+    """What the sheet template shows (``plan``: the placed boxes, page by page)."""
     from markupsafe import Markup
 
     tb, settings = frame.title_block, frame.settings
@@ -449,5 +459,6 @@ def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
         "version": __version__,
         "author": document_author(tb, settings),
         "keywords": ", ".join(["loop sheet", pieces.loop.id, *(t.tag for t in pieces.tags)]),
+        "plan": pages,
     }
-    return environment().get_template("sheet.html").render(context)
+    return context
