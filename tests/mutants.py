@@ -15,7 +15,8 @@ with ``pytest -x`` in two stages, stopping at the first failure:
 
 1. the module's own doctests and the test files that import the module (directly, or through a
    package ``__init__`` that imports it, e.g. ``loopdocs.checks`` imports every rule module);
-2. only if stage 1 passes: the other fast test files whose imports reach the module.
+2. only if stage 1 passes: the other fast test files whose imports reach the module
+   (``--direct-only`` skips this stage; a module no test imports gets these files in stage 1).
 
 A mutant is *killed* when a test fails (or the run exceeds the timeout), *survived* otherwise.
 Tests that already fail on the unmutated copy (someone's work in progress) are deselected.
@@ -240,6 +241,8 @@ class TestMap:
         # module itself, then files named after it, then the rest
         stem = module.rsplit(".", 1)[-1].split("_")[0]
         direct.sort(key=lambda t: (module not in self.test_imports[t[len("tests/"):]], stem not in t))
+        if not direct:  # no test imports it: it is tested through the modules that use it
+            direct, wide = wide, []
         return direct, wide
 
 
@@ -268,7 +271,10 @@ def _pytest(root: Path, targets: list[str], deselect: list[str], timeout: float)
     if run.returncode == 5:  # nothing collected
         return "pass", ""
     found = re.search(r"^(?:FAILED|ERROR) (\S+)", run.stdout, re.M)
-    return "fail", found.group(1) if found else run.stdout.strip().splitlines()[-1][:120] if run.stdout.strip() else "error"
+    if found:
+        return "fail", found.group(1)
+    last = run.stdout.strip().splitlines()[-1:] or ["error"]
+    return "fail", last[0][:120]
 
 
 def _copy_repo(into: Path, source: Path = REPO) -> Path:

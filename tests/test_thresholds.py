@@ -386,3 +386,68 @@ def test_reading_exactly_at_the_tolerance_passes(reading_ma, status):
     from loopdocs.calibration.grading import judge_reading
 
     assert judge_reading(reading_ma, 12.0, 16.0, 0.25).status == status
+
+
+# --------------------------------------------------------------------------- survivors of tests/mutants.py
+# Behaviour a mutant changed without any test noticing (docs/testing.md); each is checked here
+# against its own source.
+
+
+def test_acceptance_needs_both_its_rule_and_its_tag(tmp_path):
+    # An engineering acceptance names one rule on one tag (docs/design.md §7, loopdocs.toml
+    # [[accept]]); the same rule on another tag, and another rule on the same tag, stay open
+    # (common practice for a reviewed exception: it covers what was reviewed, nothing more).
+    from loopdocs.checks import check_project
+
+    rows = [{"tag": "PT-7", "signal": "4-20 mA", "range_low": 0, "range_high": 10},
+            {"tag": "PT-8", "signal": "4-20 mA", "range_low": 0, "range_high": 10}]
+    write_index_workbook(tmp_path / "index.xlsx", rows)
+    (tmp_path / "loopdocs.toml").write_text(
+        '[[accept]]\nrule = "range.no-units"\ntag = "PT-7"\nreason = "spare, range set at site"\nby = "A. Engineer"\n')
+    checked = check_project(tmp_path)
+    accepted = {(f.rule, f.tags) for f in checked.findings if f.accepted is not None}
+    assert accepted == {("range.no-units", ("PT-7",))}
+    assert any(f.rule == "range.no-units" and f.tags == ("PT-8",) and f.accepted is None for f in checked.findings)
+
+
+def test_stroke_note_says_closes_for_a_valve_that_closes(calibrate_text):
+    # ATC with a direct positioner: more signal, more air, the valve closes (a fact of the
+    # trade: air to close); the table says so, the ATO valve's says it opens.
+    assert "ATC, direct positioner: travel closes as the signal rises from 4 to 11.68 mA" in " ".join(
+        _table(calibrate_text, "TV-802A valve stroke").split())
+    assert "ATO, direct positioner: travel opens as the signal rises from 4 to 20 mA" in " ".join(
+        _table(calibrate_text, "FV-201 valve stroke").split())
+
+
+def test_valve_table_errors_are_in_percent_of_travel():
+    # Valve travel spans 0 to 100 % (common practice), so a valve table's "% of span" error
+    # is an error in % travel: a stroke, fail-action and loop-check table all span 100.
+    from loopdocs.calc.fail_action import fail_action_table
+    from loopdocs.calc.signals import MA_4_20
+    from loopdocs.calc.tables import loop_check_table, stroke_table
+    from loopdocs.calc.travel import Settings
+
+    settings = Settings("positioner", "ATO", "direct", 4.0, 20.0, MA_4_20)
+    tables = [stroke_table("FV-1", settings), fail_action_table("FV-1", "FC", settings, None),
+              loop_check_table("FV-1", Intent(0, 100, 0, 100), settings)]
+    assert [t.output_span for t in tables] == [100.0, 100.0, 100.0]
+
+
+@pytest.mark.parametrize("unit, length", [("mm", True), ("m", True), ("ft", True), ("kPa", False), ("degC", False)])
+def test_length_units_are_told_from_others(unit, length):
+    # mm, m and ft are lengths (SI brochure; 1 ft = 0.3048 m by definition): a level range in
+    # them is calibrated against a length; kPa and degC are not lengths.
+    from loopdocs.calc.units import is_length
+
+    assert is_length(unit) is length
+
+
+def test_settings_error_is_found_where_the_realised_travel_bends(index_files):
+    # TV-809A (staged before TV-809B) should stroke 0 -> 100 % over CO 0 to 50 % (4 to 12 mA) but its positioner is
+    # set 4 to 11 mA: it is fully open at 11 mA, CO (11 - 4) / 16 = 43.75 % (I = 4 + 16 CO,
+    # IEC 60381-1), where the intended travel is 43.75 / 50 = 87.5 %: off by 12.5 % at
+    # CO 43.75 % exactly (the corner of the realised travel, not a grid point near it).
+    rows = [CTRL, valve("TV-809A", (0, 50), (0, 100), (4, 11)), valve("TV-809B", (50, 100), (0, 100), (12, 20))]
+    found = of(index_files.check(rows), "split.settings")
+    assert [f.tags for f in found] == [("TV-809A",)]
+    assert re.search(r"travel off by " + number("12.5") + " % at CO " + number("43.75") + " %", found[0].message)
