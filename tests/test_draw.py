@@ -275,10 +275,38 @@ def test_svg_renders_with_cairosvg(layouts):
 
 # --- shapes beyond the example: random loops -------------------------------------------------
 
+DEVICE_TYPES = {"T": [None, "thermowell"], "F": [None, "magnetic", "vortex", "Coriolis", "ultrasonic", "thermal mass",
+                                                "variable area", "turbine", "positive displacement", "DP"],
+                "P": [None, "pressure"], "L": [None, "radar", "guided-wave radar", "displacer", "hydrostatic",
+                                               "capacitance", "float"]}
+ANALYSERS = ["pH", "conductivity", "oxygen", "analyser"]
+
+
+@st.composite
+def installation(draw) -> dict:
+    """Random installation columns of one device (issue 11): cores, screen, supply,
+    barrier, area class, interlock."""
+    out: dict = {}
+    if draw(st.booleans()):
+        out["cores"] = draw(st.sampled_from(["1+ 2- S", "3+ 4-", "pair 2"]))
+        out["shield"] = draw(st.sampled_from(["cabinet", "field", "both", "none"]))
+    if draw(st.booleans()):
+        out["wires"] = draw(st.sampled_from(["2-wire", "4-wire"]))
+        out["power_source"] = draw(st.sampled_from([None, "24 V DC PSU-1 F3", "230 V AC DB-2 way 14"]))
+    if draw(st.booleans()):
+        out["barrier"] = draw(st.sampled_from(["BR-7 zener", "IS isolator KFD-1 two channel"]))
+        out["area_class"] = draw(st.sampled_from(["Zone 1 IIC T4", "Class I Div 2"]))
+    if draw(st.booleans()):
+        out["interlock"] = draw(st.sampled_from(["C&E 12", "I-710 pump trip"]))
+    return out
+
+
 @st.composite
 def loop_rows(draw):
-    """A loop of 0 to 2 transmitters (with or without a primary element), an optional
-    controller, 0 to 4 valves (electrical or on an I/P), random wiring and services."""
+    """A loop of 0 to 2 transmitters (with or without a primary element, a random Device
+    Type, alarms), an optional switch with its set point, an optional controller, 0 to 4
+    valves (electrical or on an I/P; random body, actuator and accessories, some with
+    rows of their own), random wiring, installation columns and services."""
     variable = draw(st.sampled_from(["T", "F", "P", "L"]))
     number = "710"
     words = st.lists(st.sampled_from(["mash", "tun", "wort", "kettle", "glycol", "return", "header",
@@ -309,13 +337,22 @@ def loop_rows(draw):
         suffix = "AB"[i] if n_tx > 1 else ""
         location = draw(st.sampled_from(["field", "field", "rack room"]))
         sensor = draw(st.sampled_from([None, "Pt100", "TC-K"])) if variable == "T" else None
+        device_type = draw(st.sampled_from(DEVICE_TYPES[variable]))
+        alarms = {k: v for k, v in (("alarm_l", 10), ("alarm_h", 80), ("alarm_hh", 90)) if draw(st.booleans())}
         rows.append({"tag": f"{variable}T-{number}{suffix}", "location": location, "platform": "device",
                      "signal": draw(st.sampled_from(["4-20 mA", "4-20 mA HART", "fieldbus"])),
-                     "sensor": sensor, "range_low": 0, "range_high": 100, "units": "%",
-                     "service": " ".join(draw(words)), **wiring({})})
+                     "sensor": sensor, "range_low": 0, "range_high": 100, "units": "%", "device_type": device_type,
+                     "service": " ".join(draw(words)), **alarms, **wiring({}), **draw(installation())})
         if variable in ("T", "F") and draw(st.booleans()):
             rows.append({"tag": f"{variable}E-{number}{suffix}", "location": "field", "platform": "device",
-                         "signal": "RTD" if variable == "T" else "none", "service": " ".join(draw(words))})
+                         "signal": "RTD" if variable == "T" else "none", "service": " ".join(draw(words)),
+                         "device_type": draw(st.sampled_from(DEVICE_TYPES[variable]))})
+    if draw(st.booleans()):
+        high = draw(st.booleans())
+        rows.append({"tag": f"{variable}S{'H' if high else 'L'}-{number}", "location": "field", "platform": "device",
+                     "signal": "discrete", "set_point": 50.0, "reset": 45.0 if high else 55.0, "units": "%",
+                     "device_type": draw(st.sampled_from(DEVICE_TYPES[variable] + ANALYSERS)), **wiring({}),
+                     **draw(installation())})
     controller = None
     if draw(st.booleans()):
         local = draw(st.booleans())
@@ -331,15 +368,29 @@ def loop_rows(draw):
     method = draw(st.sampled_from(["dcs", "positioner"]))
     for i in range(n_valves):
         suffix = "ABCD"[i] if n_valves > 1 else ""
+        accessories = draw(st.lists(st.sampled_from(["SOV", "open limit switch", "closed limit switch", "booster",
+                                                     "lock-up", "AFR", "position transmitter"]),
+                                    max_size=4, unique=True))
         valve = {"tag": f"{variable}V-{number}{suffix}", "location": "field", "platform": "device",
                  "air_action": draw(st.sampled_from(["ATO", "ATC"])), "fail_position": draw(st.sampled_from(["FC", "FO"])),
                  "driven_by": controller, "service": " ".join(draw(words)),
-                 "co_start_pct": 100 * i / n_valves, "co_end_pct": 100 * (i + 1) / n_valves}
+                 "co_start_pct": 100 * i / n_valves, "co_end_pct": 100 * (i + 1) / n_valves,
+                 "valve_body": draw(st.sampled_from([None, "globe", "angle", "butterfly", "ball", "segmented ball",
+                                                     "eccentric plug", "diaphragm", "three-way"])),
+                 "actuator": draw(st.sampled_from([None, "spring-diaphragm", "spring-return piston",
+                                                   "double-acting piston", "electric", "hydraulic"])),
+                 "accessories": ", ".join(accessories) or None,
+                 "air_supply": draw(st.sampled_from([None, "header H-2"])),
+                 "valve_size": draw(st.sampled_from([None, "DN50", '3"'])), "cv": draw(st.sampled_from([None, 46]))}
+        for letters, item in (("XY", "SOV"), ("ZSO", "open limit switch")):
+            if item in accessories and draw(st.booleans()):
+                rows.append({"tag": f"{letters}-{number}{suffix}", "loop": f"{variable}-{number}",
+                             "location": "field", "platform": "device", "signal": "discrete", **wiring({})})
         if relay:
             valve.update({"signal": "3-15 psig", "split_method": "pneumatic", "input_low": 3 + 12 * i / n_valves,
                           "input_high": 3 + 12 * (i + 1) / n_valves, "input_units": "psig"})
         else:
-            valve.update({"signal": "4-20 mA", "split_method": method, **wiring({})})
+            valve.update({"signal": "4-20 mA", "split_method": method, **wiring({}), **draw(installation())})
         rows.append(valve)
     if not rows:
         rows.append({"tag": f"{variable}I-{number}", "location": "field", "platform": "device"})

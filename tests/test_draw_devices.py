@@ -127,3 +127,133 @@ def test_ip_converter_letters_stay_upright():
     symbol = entry.symbol.load()
     assert entry.rotate_deg == 0.0
     assert symbol.ports["signal-in"][0] > symbol.ports["air-out"][0]
+
+
+# --- issue 11: every Device Type, Valve Body, Actuator and Accessory of the index ------------
+
+from loopdocs.model.vocab import Accessory, Actuator, DeviceType, ValveBody  # noqa: E402
+
+_ROW = {"location": "field", "platform": "device"}
+
+
+def test_device_type_chooses_the_sensing_part(tmp_path):
+    # Common practice (P&ID and loop diagram symbols, ISA-5.1 primary elements, from
+    # memory): a meter's body in the line with its type letters, level and analyser
+    # probes on their connection; DP and thermowell keep the choice from the letters and
+    # the Sensor (orifice for a flow element feeding a transmitter, sensor in its well).
+    rows = [{"tag": f"XE-{900 + i}", **_ROW, "device_type": d.value} for i, d in enumerate(DeviceType)]
+    rows += [{"tag": "FE-990", **_ROW, "device_type": "DP"}, {"tag": "TE-991", **_ROW, "device_type": "thermowell",
+                                                              "sensor": "Pt100"}]
+    project, _ = load_project(write_xlsx(tmp_path / "index.xlsx", rows))
+    for i, d in enumerate(DeviceType):
+        kind = devices.measuring_kind(project.tags[f"XE-{900 + i}"], feeds_transmitter=True)
+        if d is DeviceType.DP:
+            assert devices.device_kind(project.tags[f"XE-{900 + i}"]) is None
+            continue
+        assert kind.name == d.name, d  # one kind per Device Type, same name
+    assert devices.measuring_kind(project.tags["FE-990"], feeds_transmitter=True) is MeasuringKind.ORIFICE
+    assert devices.measuring_kind(project.tags["TE-991"], feeds_transmitter=True) is MeasuringKind.RTD
+    # an element's own Device Type wins; one without takes its transmitter's
+    assert devices.measuring_kind(project.tags["FE-990"], True, project.tags["XE-901"]) is MeasuringKind.ORIFICE
+    bare = project.tags["FE-990"].model_copy(update={"device_type": None})
+    assert devices.measuring_kind(bare, True, project.tags["XE-901"]) is MeasuringKind.MAGNETIC
+
+
+@pytest.mark.parametrize("body", list(ValveBody))
+def test_valve_body_chooser_follows_the_column(tmp_path, body):
+    rows = [{"tag": "FV-931", **_ROW, "signal": "4-20 mA", "valve_body": body.value}, {"tag": "FV-932", **_ROW}]
+    project, _ = load_project(write_xlsx(tmp_path / "index.xlsx", rows))
+    assert devices.body_kind(project.tags["FV-931"]).name == body.name
+    assert devices.body_kind(project.tags["FV-932"]) is BodyKind.GLOBE  # blank: the general two-way body
+
+
+@pytest.mark.parametrize(("actuator", "kind", "pneumatic"), [
+    (Actuator.SPRING_DIAPHRAGM, ActuatorKind.DIAPHRAGM, True), (Actuator.SPRING_PISTON, ActuatorKind.SPRING_PISTON, True),
+    (Actuator.DOUBLE_ACTING_PISTON, ActuatorKind.PISTON, True), (Actuator.ELECTRIC, ActuatorKind.ELECTRIC, False),
+    (Actuator.HYDRAULIC, ActuatorKind.HYDRAULIC, False)])
+def test_actuator_chooser_and_positioner(tmp_path, actuator, kind, pneumatic):
+    # Common practice: a pneumatic actuator on a 4-20 mA signal gets an electro-pneumatic
+    # positioner; an electric or hydraulic actuator takes the signal itself, no air.
+    rows = [{"tag": "FV-933", **_ROW, "signal": "4-20 mA", "actuator": actuator.value}]
+    project, _ = load_project(write_xlsx(tmp_path / "index.xlsx", rows))
+    tag = project.tags["FV-933"]
+    assert devices.actuator_kind(tag) is kind
+    assert (AccessoryKind.POSITIONER in devices.accessory_kinds(tag)) is pneumatic
+
+
+def test_accessories_column_chooses_what_is_drawn_on_the_valve(tmp_path):
+    rows = [{"tag": "FV-934", **_ROW, "signal": "4-20 mA",
+             "accessories": "SOV, limit switches, booster, lock-up, AFR, position transmitter"},
+            {"tag": "HV-935", **_ROW, "signal": "discrete", "accessories": "SOV, ZSO"}]
+    project, _ = load_project(write_xlsx(tmp_path / "index.xlsx", rows))
+    # positioner first, then the air line towards the actuator, the yoke, the supply
+    assert devices.accessory_kinds(project.tags["FV-934"]) == (
+        AccessoryKind.POSITIONER, AccessoryKind.LOCK_UP, AccessoryKind.SOLENOID, AccessoryKind.BOOSTER,
+        AccessoryKind.LIMIT_SWITCH, AccessoryKind.POSITION_TRANSMITTER, AccessoryKind.FILTER_REGULATOR)
+    # an on/off valve: its solenoid valve takes the discrete signal, no positioner
+    assert devices.accessory_kinds(project.tags["HV-935"]) == (AccessoryKind.SOLENOID, AccessoryKind.LIMIT_SWITCH)
+
+
+def _every_kind_rows() -> list[dict]:
+    """One transmitter per Device Type (with and without an element row) and one valve
+    per Valve Body, actuators and accessories going round."""
+    rows: list[dict] = []
+    letters = {"magnetic": "F", "vortex": "F", "Coriolis": "F", "ultrasonic": "F", "thermal mass": "F",
+               "variable area": "F", "turbine": "F", "positive displacement": "F", "DP": "F", "radar": "L",
+               "guided-wave radar": "L", "displacer": "L", "hydrostatic": "L", "capacitance": "L", "float": "L",
+               "pressure": "P", "thermowell": "T", "pH": "A", "conductivity": "A", "oxygen": "A", "analyser": "A"}
+    for i, d in enumerate(DeviceType):
+        n = 600 + i
+        v = letters[d.value]
+        rows.append({"tag": f"{v}T-{n}", **_ROW, "signal": "4-20 mA", "device_type": d.value, "range_low": 0,
+                     "range_high": 10, "units": "%", "cabinet": "CAB1", "cabinet_terminals": f"X1:{n}-{n}",
+                     "io_address": f"R1-{n}"})
+        if i % 2:
+            rows.append({"tag": f"{v}E-{n}", **_ROW, "signal": "none", "device_type": d.value})
+    accessories = ["SOV, limit switches", "AFR", "booster, lock-up", "position transmitter", "ZSO, ZSC, ZT",
+                   "SOV, AFR", "", "booster, SOV, limit switches, AFR"]
+    for i, b in enumerate(ValveBody):
+        n = 700 + i
+        rows.append({"tag": f"FV-{n}", **_ROW, "signal": "4-20 mA", "valve_body": b.value,
+                     "actuator": list(Actuator)[i % len(Actuator)].value, "accessories": accessories[i],
+                     "air_supply": "IA header 3", "air_action": "ATO", "fail_position": "FC", "valve_size": "DN80",
+                     "cv": 120, "cabinet": "CAB1", "cabinet_terminals": f"X2:{n}-{n}", "io_address": f"R2-{n}"})
+    return rows
+
+
+def test_every_device_kind_is_drawn_with_its_symbol_without_overlap_or_crossing(tmp_path):
+    # docs/design.md §8.1: every text placed from a measured box, lines orthogonal and
+    # never crossing; the symbols named by the registry are the ones placed.
+    project, _ = load_project(write_xlsx(tmp_path / "index.xlsx", _every_kind_rows()))
+    drawn_files: set[str] = set()
+    for loop_id in project.loops:
+        layout = layout_loop(project, loop_id)
+        assert overlap_problems(layout) == [], loop_id
+        assert crossing_problems(layout) == [], loop_id
+        for s in layout.symbols:
+            drawn_files.update(s.symbol.name.split("+"))
+            assert set(s.ports_used) <= set(s.symbol.ports), (loop_id, s.name)
+    # every symbol a Device Type, Valve Body, Actuator or Accessories item can choose is placed
+    named = [devices.MEASURING[k] for k in MeasuringKind if k.name in DeviceType.__members__]
+    expected = {u.file for m in named for u in m.symbols}
+    expected |= {b.symbol.file for b in devices.BODIES.values()} | {a.symbol.file for a in devices.ACTUATORS.values()}
+    expected |= {c.symbol.file for k, c in devices.ACCESSORIES.items() if k is not AccessoryKind.IP_CONVERTER}
+    assert expected <= drawn_files, sorted(expected - drawn_files)
+
+
+def test_meter_code_is_written_in_the_meter_body(tmp_path):
+    # Common practice (from memory): M magnetic, V vortex, CM Coriolis in the meter symbol.
+    rows = [{"tag": "FT-611", **_ROW, "signal": "4-20 mA", "device_type": "Coriolis"},
+            {"tag": "FE-612", **_ROW, "signal": "none", "device_type": "magnetic"},
+            {"tag": "FT-612", **_ROW, "signal": "4-20 mA"}]
+    project, _ = load_project(write_xlsx(tmp_path / "index.xlsx", rows))
+    for loop_id, code in (("F-611", "CM"), ("F-612", "M")):
+        layout = layout_loop(project, loop_id)
+        (meter,) = [s for s in layout.symbols if s.symbol.name == "element-meter"]
+        (text,) = [t for t in layout.texts if t.role == "device-code"]
+        assert text.text == code and text.owner == meter.name
+        assert meter.box.contains(text.box)
+    # the transmitter with an integral meter: its line leaves the meter's out port
+    layout = layout_loop(project, "F-611")
+    (meter,) = [s for s in layout.symbols if s.symbol.name == "element-meter"]
+    assert any(math.dist(line.points[0], meter.port("out")) < 1e-6 for line in layout.lines)

@@ -319,6 +319,169 @@ def test_terminal_units_stack_at_their_height(name: str) -> None:
     assert unit.text_areas["label"][3] >= 0.7 * 2.5  # 2.5 mm text, docs/design.md §8.4
 
 
+# --- device kinds of issue 11: bodies, actuators, elements, accessories ----------------
+
+def _polygons(symbol: lib.Symbol) -> list[list[tuple[float, float]]]:
+    return [_points(a["points"]) for a in _shapes(symbol, "polygon")]
+
+
+@pytest.mark.parametrize("body", list(devices.BodyKind))
+def test_every_body_has_its_ports_where_the_pipe_and_stem_meet(body: devices.BodyKind) -> None:
+    # ISA-5.1 valve body symbols (from memory): the body sits in the line, the stem rises
+    # from its centre to the actuator; inlet and outlet on the line through the centre,
+    # an angle body's inlet below it, a three-way body's branch below it.
+    symbol = devices.BODIES[body].symbol.load()
+    cx, cy = symbol.ports["centre"]
+    assert symbol.ports["stem-top"] == (cx, 0.0)
+    assert symbol.ports["outlet"] == (symbol.width_mm, cy)
+    if body is devices.BodyKind.ANGLE:
+        assert symbol.ports["inlet"] == (cx, symbol.height_mm)
+    else:
+        assert symbol.ports["inlet"] == (0.0, cy)
+    if devices.BODIES[body].branch:
+        assert symbol.ports["branch"] == (cx, symbol.height_mm)
+
+
+@pytest.mark.parametrize(("name", "triangles"), [("valve-globe", 2), ("valve-ball", 2), ("valve-segmented-ball", 2),
+                                                 ("valve-eccentric-plug", 2), ("valve-diaphragm", 2),
+                                                 ("valve-angle", 2), ("valve-three-way", 3), ("valve-butterfly", 0)])
+def test_bodies_are_triangles_meeting_at_the_centre(name: str, triangles: int) -> None:
+    # ISA-5.1 (from memory): a two-way body is two triangles point to point, a three-way
+    # body three, an angle body two at right angles; the butterfly is drawn with its disc
+    # between two flanges instead (no triangles).
+    symbol = lib.load_symbol(name)
+    found = [t for t in _polygons(symbol) if len(t) == 3]
+    assert len(found) == triangles
+    assert all(symbol.ports["centre"] in t for t in found)
+
+
+@pytest.mark.parametrize("name", ["valve-ball", "valve-segmented-ball"])
+def test_ball_bodies_draw_the_ball_as_a_white_circle_at_the_centre(name: str) -> None:
+    # ISA-5.1 ball valve (from memory): the bow-tie with a circle at its centre; white
+    # filled so the triangles' points do not show through.
+    symbol = lib.load_symbol(name)
+    (circle,) = [(t, a) for t, a, _, _ in _drawn(symbol) if t == "circle"]
+    attrs = circle[1]
+    assert (float(attrs["cx"]), float(attrs["cy"])) == symbol.ports["centre"]
+    assert attrs["fill"] == "#ffffff"
+
+
+def test_butterfly_disc_is_slanted_between_two_flanges() -> None:
+    # Common practice (ISA-5.1 butterfly valve, from memory): two flange lines across the
+    # pipe with the disc drawn slanted between them.
+    symbol = lib.load_symbol("valve-butterfly")
+    lines = [(float(a["x1"]), float(a["y1"]), float(a["x2"]), float(a["y2"])) for a in _shapes(symbol, "line")]
+    verticals = [ln for ln in lines if ln[0] == ln[2] and ln[0] not in (symbol.ports["centre"][0],)]
+    slanted = [ln for ln in lines if ln[0] != ln[2] and ln[1] != ln[3]]
+    assert len(verticals) == 2 and len(slanted) == 1
+    x_left, x_right = sorted(v[0] for v in verticals)
+    assert x_left < min(slanted[0][0], slanted[0][2]) and max(slanted[0][0], slanted[0][2]) < x_right
+
+
+@pytest.mark.parametrize("body", list(devices.BodyKind))
+@pytest.mark.parametrize("actuator", list(devices.ActuatorKind))
+def test_every_actuator_stacks_on_every_body(body: devices.BodyKind, actuator: devices.ActuatorKind) -> None:
+    # Common practice: the actuator sits on the body's stem, stem vertical, the signal
+    # entering at the actuator's top.
+    valve = devices.valve_symbol(body, actuator)
+    assert valve.ports["stem-top"] == valve.ports["stem-bottom"]
+    assert valve.ports["signal"][0] == valve.ports["centre"][0] == valve.ports["stem-top"][0]
+    assert valve.ports["signal"][1] < valve.ports["side-right"][1] < valve.ports["centre"][1]
+
+
+@pytest.mark.parametrize("name", ["actuator-piston-spring", "actuator-hydraulic", "actuator-piston"])
+def test_piston_actuators_admit_air_below_the_piston(name: str) -> None:
+    # Common practice: a spring-return piston takes its air under the piston, the spring
+    # above it; the air connection (side-right) is on the cylinder wall below the piston line.
+    symbol = lib.load_symbol(name)
+    pistons = [float(a["y1"]) for a in _shapes(symbol, "line") if a["y1"] == a["y2"] and float(a["x1"]) <= 1.0]
+    assert len(pistons) == 1
+    assert symbol.ports["side-right"][1] >= pistons[0]
+
+
+def test_electric_actuator_is_a_circle_with_m() -> None:
+    # ISA-5.1 electric motor actuator (from memory): a circle marked M on the stem.
+    symbol = lib.load_symbol("actuator-electric")
+    (circle,) = _shapes(symbol, "circle")
+    strokes = _shapes(symbol, "polyline")
+    assert len(strokes) == 1 and len(_points(strokes[0]["points"])) == 5  # the M, four strokes
+    assert float(circle["cx"]) == symbol.ports["stem-bottom"][0]
+
+
+METERS = [k for k, e in devices.MEASURING.items() if e.part.file == "element-meter"]
+
+
+@pytest.mark.parametrize("kind", METERS)
+def test_meter_codes_fit_the_meter_box_at_2_5_mm(kind: devices.MeasuringKind) -> None:
+    # docs/design.md §8.4: labels at 2.5 mm; the code must fit the box unsqueezed
+    # (DejaVu Sans advance widths, the font the drawings are measured with).
+    from loopdocs.draw.text import text_width_mm
+
+    symbol = lib.load_symbol("element-meter")
+    x, y, w, h = symbol.text_areas["code"]
+    code = devices.MEASURING[kind].code
+    assert code and text_width_mm(code, 2.5) <= w
+    (box,) = [a for a in _shapes(symbol, "rect") if a.get("fill") == "#ffffff"]
+    assert float(box["x"]) <= x and x + w <= float(box["x"]) + float(box["width"])
+    assert h >= 0.7 * 2.5
+
+
+def test_meter_codes_are_distinct() -> None:
+    codes = [devices.MEASURING[k].code for k in METERS]
+    assert len(codes) == len(set(codes)) == 7
+
+
+WALL_PARTS = sorted({e.part.file for e in devices.MEASURING.values() if "flange-left" in e.part.ports})
+
+
+@pytest.mark.parametrize("name", WALL_PARTS)
+def test_wall_mounted_parts_hang_from_their_connection(name: str) -> None:
+    # Common practice: a probe, antenna, well or seal is drawn on its process connection,
+    # the instrument's line leaving from the head at the top middle.
+    symbol = lib.load_symbol(name)
+    left, right, head, tip = (symbol.ports[p] for p in ("flange-left", "flange-right", "head", "tip"))
+    assert left[1] == right[1] and left[0] < head[0] < right[0]
+    assert head == (symbol.width_mm / 2, 0.0)
+    assert tip[1] >= left[1]  # the sensing end is at or beyond the wall line
+
+
+def test_earth_bars_get_shorter_downwards() -> None:
+    # IEC 60617 S00200 earth, general (from memory): three parallel bars, each shorter.
+    symbol = lib.load_symbol("earth")
+    bars = sorted((float(a["y1"]), float(a["x2"]) - float(a["x1"])) for a in _shapes(symbol, "line")
+                  if a["y1"] == a["y2"])
+    assert len(bars) == 3
+    assert bars[0][1] > bars[1][1] > bars[2][1] > 0
+
+
+def test_solenoid_operator_sits_above_the_valve_body() -> None:
+    # ISA-5.1 solenoid actuator (from memory): a box marked S on the stem of the valve it
+    # moves; here the coil's wires leave the top, the air passes right to left.
+    symbol = lib.load_symbol("solenoid-valve")
+    coil, air_in, air_out = (symbol.ports[p] for p in ("coil", "signal-in", "air-out"))
+    assert coil[1] == 0.0 and air_in[1] == air_out[1] > coil[1]
+    assert air_out[0] < coil[0] < air_in[0]
+    assert len([t for t in _polygons(symbol) if len(t) == 3]) == 2
+
+
+def test_air_filter_regulator_passes_air_upwards() -> None:
+    # ISO 1219-1 filter (diamond) and pressure regulator (from memory), drawn in a
+    # vertical supply line: in at the bottom, out at the top on one vertical.
+    symbol = lib.load_symbol("air-filter-regulator")
+    assert symbol.ports["in"][0] == symbol.ports["out"][0]
+    assert symbol.ports["in"][1] > symbol.ports["out"][1]
+    assert any(len(t) == 4 for t in _polygons(symbol))  # the filter diamond
+
+
+def test_barrier_has_its_field_side_left() -> None:
+    # Common practice on loop diagrams: field cable in from the left (hazardous side), the
+    # I/O on the right (safe side); the IS mark goes on the field side.
+    symbol = lib.load_symbol("barrier")
+    x, _, w, _ = symbol.text_areas["label"]
+    assert symbol.ports["wire-left"][0] == 0 and symbol.ports["wire-right"][0] == symbol.width_mm
+    assert x + w <= symbol.width_mm / 2 + 1.0
+
+
 # --- line styles ----------------------------------------------------------------------
 # ISA-5.1-2009 line symbols (table number not recalled; from memory): electric signal =
 # dashed line; pneumatic signal = line with double cross-hatch at intervals; data link =

@@ -73,6 +73,8 @@ ELEMENT_DROP_MM = 2.5
 """Gap between a primary element's bubble and its sensing part below it."""
 SUPPLY_DROP_MM = 3.0
 """Length of each run of the instrument air supply line below a valve's first accessory."""
+SUPPLY_JOG_MM = 1.5
+"""Drop of the air supply line before it steps right, clear of the valve's pipe."""
 COIL_DROP_MM = 2.0
 """How far below the row line an on/off valve's solenoid coil sits (the row line drops to it)."""
 COIL_LEAD_MM = 2.5
@@ -528,12 +530,15 @@ _BY_DEVICE_TYPE: Mapping[DeviceType, MeasuringKind] = MappingProxyType({
     DeviceType.PH: MeasuringKind.PH, DeviceType.CONDUCTIVITY: MeasuringKind.CONDUCTIVITY,
     DeviceType.OXYGEN: MeasuringKind.OXYGEN, DeviceType.ANALYSER: MeasuringKind.ANALYSER,
 })
-"""Device Type -> the sensing part drawn (DP and thermowell are chosen by
-:func:`measuring_kind` from the letters and the Sensor, as without a Device Type)."""
+"""Device Type -> the sensing part drawn (DP is chosen by :func:`measuring_kind` from the
+letters, as without a Device Type; thermowell by :func:`device_kind` with the Sensor)."""
 
 
 def device_kind(tag: Tag) -> MeasuringKind | None:
-    """The sensing part the tag's Device Type names, or None (blank, DP, thermowell)."""
+    """The sensing part the tag's Device Type names (a thermowell with the Sensor in it),
+    or None (blank, or DP: the orifice is drawn only for a flow element row)."""
+    if tag.device_type is DeviceType.THERMOWELL:
+        return sensor_kind(tag.sensor) if tag.sensor is not None else MeasuringKind.THERMOWELL
     return _BY_DEVICE_TYPE.get(tag.device_type) if tag.device_type is not None else None
 
 
@@ -543,7 +548,8 @@ def measuring_kind(element: Tag, feeds_transmitter: bool, transmitter: Tag | Non
     orifice plate (the DP transmitter takes its impulse lines); a temperature element is
     its sensor in a thermowell (the bare well when the Sensor is blank); anything else
     the generic in-line element."""
-    named = device_kind(element) or (device_kind(transmitter) if transmitter is not None else None)
+    source = transmitter if element.device_type is None and transmitter is not None else element
+    named = device_kind(source)
     if named is not None:
         return named
     variable = element.parts.variable
@@ -653,15 +659,21 @@ def _accessory_label(kind: AccessoryKind, valve: Tag, accessory_tags: Mapping[Ac
 
 
 def _supply_line(drawing: Drawing, tag: Tag, entry_port: Point, horizontal_first: bool,
-                 regulator: bool) -> float:
+                 regulator: bool, clear_x: float, min_end_y: float) -> tuple[float, float]:
     """The instrument air supply to the first pneumatic device, leaving ``entry_port``
-    downwards (or first to the right, then down), through the air filter regulator when
-    there is one, ending in its ``IA`` label; returns the lowest y drawn."""
+    downwards (or first to the right), stepping right to ``clear_x`` when it starts left
+    of it (clear of the valve's pipe), then down through the air filter regulator when
+    there is one, ending in its ``IA`` label at ``min_end_y`` or lower (below the pipe).
+    Returns (lowest y drawn, x of the line's vertical run)."""
     x, y = entry_port
     points: list[Point] = [entry_port]
     if horizontal_first:
-        x += AIR_GAP_MM + 1.0
+        x = max(x + AIR_GAP_MM + 1.0, clear_x)
         points.append((x, y))
+    elif x < clear_x:
+        y += SUPPLY_JOG_MM
+        points += [(x, y), (clear_x, y)]
+        x = clear_x
     y_afr = y + SUPPLY_DROP_MM
     if regulator:
         afr = PlacedSymbol(ACCESSORIES[AccessoryKind.FILTER_REGULATOR].symbol.load(), x, y_afr, anchor="out",
@@ -670,15 +682,15 @@ def _supply_line(drawing: Drawing, tag: Tag, entry_port: Point, horizontal_first
         drawing.symbols.append(afr)
         drawing.lines.append(SignalLine("pneumatic", tuple(points + [afr.port("out")]), "air-supply"))
         start = afr.port("in")
-        end = (start[0], start[1] + SUPPLY_DROP_MM)
+        end = (start[0], max(start[1] + SUPPLY_DROP_MM, min_end_y))
         drawing.lines.append(SignalLine("pneumatic", (start, end), "air-supply"))
     else:
-        end = (x, y + 2 * SUPPLY_DROP_MM)
+        end = (x, max(y + 2 * SUPPLY_DROP_MM, min_end_y))
         drawing.lines.append(SignalLine("pneumatic", tuple(points + [end]), "air-supply"))
     gap = LINE_HALF_WIDTH_MM["pneumatic"] + 0.4
     text = label(air_supply_text(tag), end[0] - 1.0, end[1] + gap + ASCENT_EM * TEXT_MM, "start", "air-supply")
     drawing.texts.append(text)
-    return text.box.bottom
+    return text.box.bottom, x
 
 
 def _yoke_devices(drawing: Drawing, valve: PlacedSymbol, tag: Tag, kinds: list[AccessoryKind],
@@ -821,15 +833,14 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
     if tag.air_action is not None:
         drawing.texts.append(label(tag.air_action.value, min(box.x, left_x) - 1.0, actuator_at[1] - 0.5, "end",
                                    "air-action"))
-    extra = valve_text_lines(tag)
-    if extra:
-        drawing.texts += stack_lines(extra, stem_x, y, "middle", "valve-data")
-        y += LINE_PITCH_MM * len(extra)
     # instrument air to the first pneumatic device (ISA-5.1 supply IA), with its regulator
     supply_x: float | None = None
     pneumatic = ACTUATORS[actuator].pneumatic
     regulator = AccessoryKind.FILTER_REGULATOR in accessories
-    if pneumatic and placed_accessories and (tag.air_supply or regulator):
+    # supply air goes to a positioner or I/P, or to an on/off valve's solenoid valve; a valve
+    # moved by a pneumatic signal takes its air from that signal
+    takes_supply = bool(chained) and (ACCESSORIES[chained[0]].mount is Mount.SIGNAL_PATH or coil_first)
+    if pneumatic and takes_supply and (tag.air_supply or regulator):
         first = placed_accessories[0]
         if coil_first:
             entry_port, across = first.port("signal-in"), True
@@ -837,9 +848,16 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
             # the lower of its top and bottom ports once placed (the positioner is turned half a turn)
             ends = [first.port(p) for p in ("top", "bottom") if p in first.symbol.ports]
             entry_port, across = max(ends, key=lambda p: p[1]), False
-        supply_bottom = _supply_line(drawing, tag, entry_port, across, regulator)
-        supply_x = entry_port[0] + (AIR_GAP_MM + 1.0 if across else 0.0)
+        pipe_points = [p for line in drawing.lines if line.role == "pipe" for p in line.points]
+        clear_x = max(p[0] for p in pipe_points) + LINE_HALF_WIDTH_MM["pneumatic"] + 1.0
+        supply_bottom, supply_x = _supply_line(drawing, tag, entry_port, across, regulator, clear_x,
+                                               max(p[1] for p in pipe_points) + 0.5)
         y = max(y, supply_bottom + 0.8)
+    # size and Cv, area, interlock: under the fail position, below the air supply when drawn
+    extra = valve_text_lines(tag)
+    if extra:
+        drawing.texts += stack_lines(extra, stem_x, y, "middle", "valve-data")
+        y += LINE_PITCH_MM * len(extra)
     service = service_lines(tag, loop_service)
     if service:
         drawing.texts += stack_lines(service, stem_x, y + 0.5, "middle", "service")
@@ -848,7 +866,9 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
         first = placed_accessories[0] if placed_accessories else None
         anchor_x = first.box.x if first is not None else valve.box.right + 0.5
         if supply_x is not None:
-            anchor_x = max(anchor_x, supply_x + LINE_HALF_WIDTH_MM["pneumatic"] + 0.6)
+            # right of the supply line and of its regulator (5 mm wide)
+            half = max(LINE_HALF_WIDTH_MM["pneumatic"], 2.5 + 0.35 if regulator else 0.0)
+            anchor_x = max(anchor_x, supply_x + half + 0.6)
         top = (first.box.bottom if first is not None else 1.5) + 0.8
         drawing.texts.append(label(setting, anchor_x, top + ASCENT_EM * TEXT_MM, "start", "split-setting"))
     attach = out_path[-1] if out_path else (0.0, 0.0)

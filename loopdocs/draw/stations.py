@@ -370,7 +370,7 @@ def _wiring(tag: Tag, io: IoChannel | None, rack_device: bool) -> list[Station]:
     """Junction-box terminal, cabinet terminal, barrier and I/O stations on the way of one
     signal."""
     stations: list[Station] = []
-    polarity = has_polarity(tag)
+    polarity = has_polarity(tag) and line_kind(tag.signal) == "electrical"
     if tag.jb:
         stations.append(TerminalStation(column="J", terminals=tag.jb_terminals, polarity=polarity,
                                         key=("J", tag.jb, tag.jb_terminals or tag.tag), enclosure=tag.jb))
