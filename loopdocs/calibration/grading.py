@@ -244,8 +244,10 @@ def judge_reading(
     """
     if value is None or (isinstance(value, str) and not value.strip()):
         return Reading(None, None, NOT_TESTED)
-    if isinstance(value, bool):
-        return Reading(None, None, INVALID)
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        return Reading(None, None, INVALID)  # true/false, a date or time: not a reading
+    if isinstance(value, str) and value.strip().startswith("="):
+        return Reading(None, None, INVALID)  # a formula is not a reading
     try:
         number = float(str(value).replace(",", ".")) if isinstance(value, str) else float(value)
     except ValueError:

@@ -80,7 +80,9 @@ class _progress:
     def update(self, done: int, total: int, loop_id: str) -> None:
         if self.task is None:
             self.task = self.bar.add_task("", total=total)
-        self.bar.update(self.task, completed=done, description=loop_id)
+        from rich.markup import escape
+
+        self.bar.update(self.task, completed=done, description=escape(loop_id))
 
     def __exit__(self, *exc) -> None:  # noqa: ANN002
         self.bar.__exit__(*exc)

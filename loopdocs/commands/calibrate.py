@@ -68,7 +68,14 @@ def calibrate(
             if not cset.tables and not cset.skipped:
                 raise InputError(f"no tag or loop matches {', '.join(tag)}")
         if out is not None:
+            from loopdocs.core.files import refuse_overwriting
+            from loopdocs.read.project_file import locate
             from loopdocs.sheets.technicians_workbook import write_workbook
+
+            if Path(out).suffix.lower() != ".xlsx":
+                raise InputError(f"--out {out}: the technicians' workbook is an .xlsx file; name it so")
+            paths = locate(Path(path))
+            refuse_overwriting(out, [paths.index, *([paths.config_file] if paths.config_file else [])])
 
             try:
                 counts = write_workbook(cset, out, sheet_per=sheet_per.value)

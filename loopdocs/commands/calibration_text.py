@@ -37,17 +37,18 @@ def rich_table(view: TableView) -> Any:
 
 def print_calibration(cset: CalibrationSet) -> None:
     from rich.console import Console
+    from rich.markup import escape
 
     from loopdocs.core.wording import CAUTION
 
     console = Console(highlight=False)
-    console.print(f"[bold]{cset.project}[/] ({cset.index_path}): {len(cset.tables)} table(s)")
+    console.print(f"[bold]{escape(cset.project)}[/] ({escape(str(cset.index_path))}): {len(cset.tables)} table(s)")
     for view in present_tables(cset.tables):
         console.print(rich_table(view))
     if cset.skipped:
         console.print(f"[bold]{len(cset.skipped)} tag(s) without a table:[/]")
         for s in cset.skipped:
-            console.print(f"  {s.tag}: {s.reason}")
+            console.print(f"  {escape(s.tag)}: {escape(s.reason)}")
     console.print(f"[bold red]CAUTION:[/] {CAUTION}")
 
 
@@ -56,6 +57,7 @@ def print_summary(cset: CalibrationSet) -> None:
     from collections import Counter
 
     from rich.console import Console
+    from rich.markup import escape
 
     from loopdocs.core.wording import CAUTION
 
@@ -63,9 +65,9 @@ def print_summary(cset: CalibrationSet) -> None:
     tags = {t.tag for t in cset.tables}
     kinds = Counter(t.kind for t in cset.tables)
     by_kind = ", ".join(f"{n} {kind}" for kind, n in kinds.items())
-    console.print(f"[bold]{cset.project}[/] ({cset.index_path}): {len(cset.tables)} table(s) for {len(tags)} tag(s)"
+    console.print(f"[bold]{escape(cset.project)}[/] ({escape(str(cset.index_path))}): {len(cset.tables)} table(s) for {len(tags)} tag(s)"
                   + (f" ({by_kind})" if by_kind else ""))
     if cset.skipped:
         console.print(f"{len(cset.skipped)} tag(s) without a table (listed with the reason on the Contents sheet): "
-                      + ", ".join(s.tag for s in cset.skipped[:10]) + (" ..." if len(cset.skipped) > 10 else ""))
+                      + ", ".join(escape(s.tag) for s in cset.skipped[:10]) + (" ..." if len(cset.skipped) > 10 else ""))
     console.print(f"[bold red]CAUTION:[/] {CAUTION}")

@@ -27,16 +27,18 @@ _STYLE = {Severity.ERROR: "bold red", Severity.WARNING: "yellow", Severity.INFO:
 
 def print_check(checked: Checked) -> None:
     from rich.console import Console
+    from rich.markup import escape
     from rich.table import Table
 
     console = Console(highlight=False)
     project = checked.project
-    console.print(f"[bold]{project.index_path}[/] sheet {project.sheet!r}: {len(project.tags)} tags in {len(project.loops)} loops")
+    console.print(f"[bold]{escape(str(project.index_path))}[/] sheet {escape(repr(project.sheet))}: {len(project.tags)} tags in "
+                  f"{len(project.loops)} loops")
     for loop_id, group in groupby(checked.findings, key=lambda f: f.loop or ""):
         findings = list(group)
         service = project.loops[loop_id].service if loop_id in project.loops else None
         title = f"loop {loop_id}" + (f": {service}" if service else "") if loop_id else "project"
-        table = Table(title=title, title_justify="left", show_lines=False, expand=False)
+        table = Table(title=escape(title), title_justify="left", show_lines=False, expand=False)
         table.add_column("severity")
         table.add_column("rule")
         table.add_column("cell")
@@ -44,7 +46,7 @@ def print_check(checked: Checked) -> None:
         for f in findings:
             severity = f"[{_STYLE[f.severity]}]{f.severity.value}[/]" + (" (accepted)" if f.accepted else "")
             message = f.message + (f"\naccepted by {f.accepted.by}: {f.accepted.reason}" if f.accepted else "")
-            table.add_row(severity, f.rule, str(f.location) if f.location else "", message)
+            table.add_row(severity, f.rule, escape(str(f.location)) if f.location else "", escape(message))
         console.print(table)
     print_splits(console, checked)
     counts = FindingCounts.of(checked.findings)
@@ -90,6 +92,7 @@ def _settings_cells(e: Any) -> tuple[str, str]:
 
 def print_splits(console: Any, checked: Checked) -> None:
     """A summary per split group: arrangement, segments, gaps and overlaps, settings."""
+    from rich.markup import escape
     from rich.table import Table
 
     from loopdocs.core.formatting import fmt_pct
@@ -100,7 +103,7 @@ def print_splits(console: Any, checked: Checked) -> None:
     console.print(f"[bold]Split ranges[/] ({len(splits)})")
     for group in splits:
         table = Table(
-            title=f"{group.controller} (loop {group.loop}): {group.mode}, {_method_text(group)}",
+            title=escape(f"{group.controller} (loop {group.loop}): {group.mode}, {_method_text(group)}"),
             title_justify="left", expand=False,
         )
         for column in ("element", "CO %", "travel %", "set", "recommended"):
@@ -111,7 +114,8 @@ def print_splits(console: Any, checked: Checked) -> None:
             if e.intent_source != "stated":
                 travel += f" ({'from settings' if e.intent_source == 'settings' else 'default'})"
             segment = f"{fmt_pct(e.co_start_pct)} to {fmt_pct(e.co_end_pct)}"
-            table.add_row(e.tag, segment if e.intent is not None else f"{segment} (invalid)", travel, now, needed)
+            table.add_row(escape(e.tag), segment if e.intent is not None else f"{segment} (invalid)", travel,
+                          escape(now), escape(needed))
         notes = [f"{e.tag} is invalid and not placed in the split: {e.intent_problem}" for e in group.invalid]
         for low, high in group.uncovered_co:
             if high - low > 0.01:
@@ -133,6 +137,6 @@ def print_splits(console: Any, checked: Checked) -> None:
                 text = f"no boundaries do better than the ones set; gain ratio across each boundary now: {ratios}"
             notes.append(text)
         if notes:
-            table.caption = "; ".join(notes)
+            table.caption = escape("; ".join(notes))
             table.caption_justify = "left"
         console.print(table)

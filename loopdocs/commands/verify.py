@@ -26,14 +26,16 @@ def verify(workbook: WorkbookArg, format: FormatOpt = OutputFormat.text, out: Su
 
     Exit code 0 when every tested point passes, 1 when a point fails, reads a failure current or an unreadable entry, a row is refused or nothing was tested, 2 when the workbook cannot be read.
     """
-    from loopdocs.sheets.technicians_workbook import read_workbook
     from loopdocs.calibration.grading import verify as judge
+    from loopdocs.sheets.technicians_workbook import read_workbook
 
     try:
         report = judge(read_workbook(workbook))
         if out is not None:
+            from loopdocs.core.files import refuse_overwriting
             from loopdocs.sheets.verify_summary import write_summary
 
+            refuse_overwriting(out, [workbook])
             try:
                 write_summary(report, out)
             except OSError as exc:
@@ -59,10 +61,12 @@ def _signed(value: float | None) -> str:
 
 def _print(report) -> None:
     from rich.console import Console
+    from rich.markup import escape
     from rich.table import Table
 
     console = Console(highlight=False)
-    console.print(f"[bold]{report.path}[/]: {report.project}" + (f", revision {report.revision}" if report.revision else ""))
+    console.print(f"[bold]{escape(str(report.path))}[/]: {escape(str(report.project))}"
+                  + (f", revision {escape(str(report.revision))}" if report.revision else ""))
     table = Table(title="results by tag (errors and hysteresis in % of span)", title_justify="left")
     for name, justify in (("tag", "left"), ("check", "left"), ("status", "left"), ("tested", "right"),
                           ("largest as-found err", "right"), ("largest as-left err", "right"), ("max hyst", "right"),
@@ -72,7 +76,7 @@ def _print(report) -> None:
         c = t.counts
         tested = c["pass"] + c["fail"] + c["failure current"] + c["invalid"] + c["no tolerance"]
         style = _STYLE.get(t.status, "")
-        table.add_row(t.tag, t.check, f"[{style}]{t.status}[/]", f"{tested}/{len(t.points)}",
+        table.add_row(escape(str(t.tag)), escape(str(t.check)), f"[{style}]{t.status}[/]", f"{tested}/{len(t.points)}",
                       _signed(t.largest_as_found_error_pct), _signed(t.largest_as_left_error_pct),
                       _fmt(t.max_hysteresis_pct), str(t.as_found_failures or ""))
     console.print(table)
@@ -94,12 +98,12 @@ def _print(report) -> None:
         expected = "" if p.expected is None else f" expected {p.expected:g} {p.unit}"
         readings = ", ".join(x for x in (reading("as-found", p.as_found), reading("as-left", p.as_left)) if x)
         console.print(
-            f"  {p.ref} ({where}){what}{expected}" + (f", {readings}" if readings else "")
-            + f": [{_STYLE.get(p.status, '')}]{p.status}[/]" + (f"; {p.reason}" if p.reason else "")
+            escape(f"  {p.ref} ({where}){what}{expected}" + (f", {readings}" if readings else ""))
+            + f": [{_STYLE.get(p.status, '')}]{p.status}[/]" + (escape(f"; {p.reason}") if p.reason else "")
         )
     flagged = [(t, h) for t in report.tags for h in t.hysteresis if h.exceeds_tolerance]
     for t, h in flagged:
-        console.print(f"[yellow]hysteresis[/] {t.tag} at {h.percent:g} %: as-found {_fmt(h.as_found_pct)} %, "
+        console.print(f"[yellow]hysteresis[/] {escape(str(t.tag))} at {h.percent:g} %: as-found {_fmt(h.as_found_pct)} %, "
                       f"judged {_fmt(h.as_left_pct)} % of span, above the tolerance")
     c = report.counts
     console.print(f"[bold]{report.tested} point(s) tested: {c['pass']} pass, {c['fail']} fail, "

@@ -44,3 +44,18 @@ def remove_partials(folder: Path) -> list[Path]:
             tmp.unlink(missing_ok=True)
             removed.append(tmp)
     return removed
+
+
+def refuse_overwriting(out: Path, inputs: "list[Path | str]", what: str = "--out") -> None:
+    """Raise ``InputError`` when ``out`` is (or resolves to) one of the ``inputs``: an output
+    never replaces the file it was made from.
+
+    >>> refuse_overwriting(Path("cal.xlsx"), [Path("index.xlsx")])
+    """
+    from loopdocs.core.errors import InputError
+
+    target = Path(out).expanduser().resolve()
+    for source in inputs:
+        source_path = Path(source).expanduser().resolve()
+        if target == source_path or (target.exists() and source_path.exists() and target.samefile(source_path)):
+            raise InputError(f"{what} {out} is an input of this command ({source}); write the output to another file")

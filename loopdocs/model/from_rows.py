@@ -8,12 +8,16 @@ Rules raised here (all name the cell):
 - ``index.bad-tag`` (error): the tag does not follow the tag grammar; row skipped.
 - ``index.duplicate-tag`` (error): the tag appears on an earlier row; this row skipped.
 - ``index.vocabulary`` (error): a value outside its column's vocabulary.
-- ``index.not-a-number`` (error): text in a numeric column.
+- ``index.not-a-number`` (error): text in a numeric column, or a number that is not finite,
+  beyond 1e12 or closer to zero than 1e-9 (a typing or export error, never a setting).
+- ``index.unprintable`` (warning): control or direction-override characters, removed
+  from the cell (no sheet, drawing or workbook can carry them).
 - ``index.read`` (warning): something the reader noticed (a formula with no cached value).
 """
 
 from __future__ import annotations
 
+import math
 import re
 from collections import defaultdict
 from functools import lru_cache
@@ -30,6 +34,34 @@ from loopdocs.read.project_file import ProjectConfig
 _NUMBER_TEXT = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
 
 
+#: Characters no sheet, drawing or workbook can carry: control characters (XML 1.0 forbids
+#: them) and the bidirectional overrides that make text read other than it is stored.
+_UNPRINTABLE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f\u202a-\u202e\u2066-\u2069]")
+
+
+def _printable_row(row: Any, findings: list[Finding], at: Any) -> Any:
+    """The row with unprintable characters taken out of its text cells, and an
+    ``index.unprintable`` warning per cell that had any."""
+    from dataclasses import replace
+
+    values = dict(row.values)
+    for key, value in row.values.items():
+        if isinstance(value, str) and _UNPRINTABLE.search(value):
+            values[key] = _UNPRINTABLE.sub("", value)
+            findings.append(Finding(
+                "index.unprintable", Severity.WARNING,
+                f"row {row.row}: {len(_UNPRINTABLE.findall(value))} control or direction-override character(s) "
+                "removed from the cell", location=at(row.row, key),
+            ))
+    return replace(row, values=values)
+
+
+#: Largest magnitude taken as a number, and the smallest non-zero one: beyond them a value
+#: is a typing or export error, not a setting (a 1e999 is infinite, a 5e-324 has no digits).
+NUMBER_LIMIT = 1e12
+NUMBER_FLOOR = 1e-9
+
+
 def to_number(value: Any) -> float:
     """A numeric cell as a float; numbers stored as text are accepted (``" 12.5 "``,
     ``"48 %"``). ``ValueError`` for anything else.
@@ -42,11 +74,17 @@ def to_number(value: Any) -> float:
     if isinstance(value, bool):
         raise ValueError(f"{value!r} is a true/false value, not a number")
     if isinstance(value, (int, float)):
-        return float(value)
-    text = str(value).strip().rstrip("%").strip().replace("\u2212", "-")
-    if _NUMBER_TEXT.fullmatch(text):
-        return float(text)
-    raise ValueError(f"{str(value).strip()!r} is not a number")
+        number = float(value)
+    else:
+        text = str(value).strip().rstrip("%").strip().replace("\u2212", "-")
+        if not _NUMBER_TEXT.fullmatch(text):
+            raise ValueError(f"{str(value).strip()!r} is not a number")
+        number = float(text)
+    if not math.isfinite(number) or abs(number) > NUMBER_LIMIT:
+        raise ValueError(f"{str(value).strip()!r} is not a usable number (beyond {NUMBER_LIMIT:g})")
+    if 0.0 < abs(number) < NUMBER_FLOOR:
+        raise ValueError(f"{str(value).strip()!r} is too close to zero to be a setting (write 0 if zero is meant)")
+    return number
 
 
 def _text(value: Any) -> str:
@@ -148,6 +186,8 @@ def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tup
         return table.location(row, key)
 
     for row in table.rows:
+        if any(isinstance(v, str) and _UNPRINTABLE.search(v) for v in row.values.values()):
+            row = _printable_row(row, findings, at)
         raw_tag = row.values.get("tag")
         if raw_tag is None:
             findings.append(Finding(

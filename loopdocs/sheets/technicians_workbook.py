@@ -145,6 +145,7 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
 
     from loopdocs.core.wording import CAUTION
     from loopdocs.core.files import atomic_write
+    from loopdocs.sheets.cells import keep_as_text
 
     if sheet_per not in ("loop", "area"):
         raise ValueError(f"sheet_per must be loop or area, got {sheet_per!r}")
@@ -328,6 +329,7 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
 
     _write_contents(contents, cset, counts, sheet_per, rj, bold, PageSetupProperties)
     _write_record(wb, cset, issued)
+    keep_as_text(wb)
     atomic_write(Path(path), lambda tmp: wb.save(tmp))
     return counts
 
@@ -467,7 +469,9 @@ def read_workbook(path: Path) -> ReturnedWorkbook:
     try:
         from openpyxl import load_workbook
 
-        wb = load_workbook(path, data_only=True, read_only=False)
+        # formulas as written, not their cached results: a reading typed as a formula (=H23
+        # copies the expected value) is an invalid entry, never graded
+        wb = load_workbook(path, data_only=False, read_only=False)
     except FileNotFoundError:
         raise InputError(f"{path}: no such file") from None
     except Exception as exc:  # zip, XML and format errors of many kinds

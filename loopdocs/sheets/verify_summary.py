@@ -19,6 +19,7 @@ def write_summary(report: VerifyReport, path: Path) -> None:
 
     from loopdocs.core.wording import CAUTION
     from loopdocs.core.files import atomic_write
+    from loopdocs.sheets.cells import keep_as_text
 
     wb = Workbook()
     ws = wb.active
@@ -80,6 +81,7 @@ def write_summary(report: VerifyReport, path: Path) -> None:
         sheet.oddHeader.left.text = report.project.replace("&", "&&")
         sheet.oddHeader.center.text = "&A"
         sheet.oddHeader.right.text = "Page &P of &N"
+    keep_as_text(wb)
     atomic_write(Path(path), lambda tmp: wb.save(tmp))
 
 

@@ -1,0 +1,110 @@
+"""Hostile and broken cells: numbers at the edges, control characters, markup, formulas,
+outputs aimed at inputs. Each input is made in the test; what loopdocs must do is written
+beside it (the table in docs/testing.md lists them)."""
+
+from __future__ import annotations
+
+import math
+import sys
+from pathlib import Path
+
+import openpyxl
+import pytest
+from typer.testing import CliRunner
+
+from loopdocs.cli import app
+from loopdocs.sheets.index_template import write_index_workbook
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from workbook_helpers import Filler  # noqa: E402
+
+runner = CliRunner()
+
+
+def _workbook(tmp_path, rows, name="index.xlsx"):
+    path = tmp_path / name
+    write_index_workbook(path, rows, spare_rows=0)
+    return path
+
+
+@pytest.mark.parametrize("text", ["nan", "inf", "-inf", "1e999", "5e-324", "1e-15", "2e12"])
+def test_numbers_at_the_edges_are_findings_with_cells(tmp_path, text):
+    # a value that is not finite, or beyond any plausible setting, is an error at its cell,
+    # never carried into a table as nan or inf
+    from loopdocs.checks import check_project
+
+    path = _workbook(tmp_path, [{"tag": "PT-1", "signal": "4-20 mA", "range_low": 0, "range_high": text,
+                                 "units": "barg", "accuracy_pct": 0.25}])
+    checked = check_project(path)
+    bad = [f for f in checked.findings if f.rule == "index.not-a-number"]
+    assert len(bad) == 1 and bad[0].location.row == 2 and bad[0].counts_as_error
+    assert checked.project.tags["PT-1"].range_high is None
+
+
+def test_float_cells_that_are_not_finite(tmp_path):
+    # the same for numbers stored as numbers (openpyxl writes inf as a number cell)
+    from loopdocs.model.from_rows import to_number
+
+    for value in (math.nan, math.inf, 1e300, 5e-324):
+        with pytest.raises(ValueError):
+            to_number(value)
+    assert to_number(0.0) == 0.0 and to_number(-1e-3) == -1e-3
+
+
+def test_control_characters_removed_with_a_finding(tmp_path):
+    from loopdocs.checks import check_project
+
+    # written as CSV: a workbook writer refuses these characters, an export from another system may not
+    path = tmp_path / "index.csv"
+    path.write_text("Tag,Service,Signal\nPT-2,Jacket\x1b[31m supply\x0b\u202e,4-20 mA\n", encoding="utf-8")
+    checked = check_project(path)
+    assert checked.project.tags["PT-2"].service == "Jacket[31m supply"
+    found = [f for f in checked.findings if f.rule == "index.unprintable"]
+    assert len(found) == 1 and found[0].location.row == 2
+
+
+def test_square_brackets_print_as_written(tmp_path):
+    # rich markup in a cell is text: no MarkupError, no hidden word, no terminal link
+    path = _workbook(tmp_path, [
+        {"tag": "PT-3", "service": "Jacket [cw] supply [/]", "signal": "4-20 mA", "range_low": 0,
+         "range_high": 10, "units": "barg", "accuracy_pct": 0.25, "loop": "[link=file:///etc/passwd]P-3[/link]"},
+    ])
+    result = runner.invoke(app, ["check", str(path)], env={"COLUMNS": "200"})
+    assert result.exception is None or isinstance(result.exception, SystemExit), result.output
+    assert "[link=file:///etc/passwd]P-3[/link]" in result.output
+    result = runner.invoke(app, ["calibrate", str(path)], env={"COLUMNS": "200"})
+    assert "Jacket [cw] supply [/]" in result.output
+
+
+def test_formulas_are_written_as_text_and_readings_as_formulas_are_invalid(tmp_path):
+    from loopdocs.calibration.grading import verify
+    from loopdocs.sheets.technicians_workbook import read_workbook
+
+    index = _workbook(tmp_path, [{"tag": "PT-4", "service": "=HYPERLINK(\"http://example.invalid\",\"x\")",
+                                  "signal": "4-20 mA", "range_low": 0, "range_high": 10, "units": "barg",
+                                  "accuracy_pct": 0.25}])
+    out = tmp_path / "cal.xlsx"
+    result = runner.invoke(app, ["calibrate", str(index), "--out", str(out)])
+    assert result.exit_code == 0, result.output
+    wb = openpyxl.load_workbook(out)
+    # OWASP formula injection: no cell written by loopdocs is a formula
+    assert not [c.coordinate for ws in wb.worksheets for row in ws.iter_rows() for c in row if c.data_type == "f"]
+    # a reading typed as a formula that copies the expected value is never graded, nor is a date
+    filler = Filler(out)
+    ws, r, col = filler.where["PT-4/01"]
+    filler.set("PT-4/01", "As-Found", f"={ws.cell(r, col['Expected']).coordinate}")
+    filler.set("PT-4/02", "As-Found", __import__("datetime").datetime(2026, 12, 2))
+    report = verify(read_workbook(filler.save()))
+    points = {p.ref: p for t in report.tags for p in t.points}
+    assert points["PT-4/01"].as_found.status == "invalid" and points["PT-4/02"].as_found.status == "invalid"
+
+
+def test_out_never_overwrites_the_input(tmp_path):
+    index = _workbook(tmp_path, [{"tag": "PT-5", "signal": "4-20 mA", "range_low": 0, "range_high": 10,
+                                  "units": "barg"}])
+    before = index.read_bytes()
+    result = runner.invoke(app, ["calibrate", str(index), "--out", str(index)])
+    assert result.exit_code == 2 and "is an input" in result.output
+    assert index.read_bytes() == before
+    result = runner.invoke(app, ["calibrate", str(index), "--out", str(tmp_path / "cal.csv")])
+    assert result.exit_code == 2 and ".xlsx" in result.output
