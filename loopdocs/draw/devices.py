@@ -4,13 +4,18 @@ the drawing uses, and the builder that places it (docs/design.md §8.1).
 Device kinds come in four families, each an enum with a registry entry per member:
 
 - :class:`MeasuringKind` -- the sensing part of a primary element (orifice plate, generic
-  in-line element, thermowell, RTD or thermocouple in a thermowell); entry
-  :class:`MeasuringEntry`, registry :data:`MEASURING`;
-- :class:`BodyKind` -- the valve body (globe); :class:`BodyEntry`, :data:`BODIES`;
-- :class:`ActuatorKind` -- the actuator stacked on the body's stem (diaphragm, piston);
+  in-line element, thermowell, RTD or thermocouple in a thermowell, in-line meters that
+  share one body told apart by letter codes, variable-area meter, level probes and
+  antennas, seal, pressure tapping, analyser probes); entry :class:`MeasuringEntry`,
+  registry :data:`MEASURING`; chosen from the Device Type (:func:`device_kind`), else
+  from the letters and the Sensor;
+- :class:`BodyKind` -- the valve body (every Valve Body); :class:`BodyEntry`, :data:`BODIES`;
+- :class:`ActuatorKind` -- the actuator stacked on the body's stem (every Actuator);
   :class:`ActuatorEntry`, :data:`ACTUATORS`;
-- :class:`AccessoryKind` -- what sits in the valve's signal path before the actuator
-  (positioner, I/P converter); :class:`AccessoryEntry`, :data:`ACCESSORIES`.
+- :class:`AccessoryKind` -- what is mounted on the valve, each with its :class:`Mount`:
+  the signal path (positioner, I/P converter), the air line to the actuator (lock-up,
+  solenoid valve, booster), the yoke (limit switch box, position transmitter) or the
+  supply line (air filter regulator); :class:`AccessoryEntry`, :data:`ACCESSORIES`.
 
 Each entry names its symbol files and the ports it uses (:class:`SymbolUse`); a test
 checks that every file exists with those ports and that every symbol file in
@@ -819,9 +824,8 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
         drawing.texts += stack_lines(names, coil[0] - 1.5, lead_top[1] - 0.6 - stack_height(len(names)), "start",
                                      "accessory")
 
-    left_x = valve.box.x
     if yoke:
-        left_x, _ = _yoke_devices(drawing, valve, tag, yoke, accessory_tags)
+        _yoke_devices(drawing, valve, tag, yoke, accessory_tags)
 
     box = valve.box
     # below the body and any pipe leaving it downwards (angle inlet, three-way branch)
@@ -830,9 +834,13 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
     if tag.fail_position is not None:
         drawing.texts += stack_lines([tag.fail_position.value], stem_x, y, "middle", "fail-position")
         y += LINE_PITCH_MM
-    if tag.air_action is not None:
-        drawing.texts.append(label(tag.air_action.value, min(box.x, left_x) - 1.0, actuator_at[1] - 0.5, "end",
-                                   "air-action"))
+    if tag.air_action is not None and yoke:
+        # the yoke's tags stand left of the actuator: the air action goes under the fail
+        # position instead, so it is not read as one of them
+        drawing.texts += stack_lines([tag.air_action.value], stem_x, y, "middle", "air-action")
+        y += LINE_PITCH_MM
+    elif tag.air_action is not None:
+        drawing.texts.append(label(tag.air_action.value, box.x - 1.0, actuator_at[1] - 0.5, "end", "air-action"))
     # instrument air to the first pneumatic device (ISA-5.1 supply IA), with its regulator
     supply_x: float | None = None
     pneumatic = ACTUATORS[actuator].pneumatic
