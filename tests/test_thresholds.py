@@ -9,8 +9,9 @@ Sources, as cited beside each test:
 - docs/design.md §4.4: realised valve travel must match the intended travel within 1 %
   of travel; the same 1 % is the default stroke-check tolerance (common practice) and the
   range chart draws the intent beside the settings only when they differ by more;
-- docs/design.md §5.6: gap/overlap narrower than 0.01 % CO is rounding, not a finding;
-  gain ratio across a staged boundary outside 0.5 to 2 is a jump (common practice);
+- docs/design.md §4.2: gap/overlap narrower than 0.01 % CO is rounding, not a finding;
+  gain ratio across a staged boundary outside 0.5 to 2 is a jump (docs/design.md §5.6,
+  common practice); the range chart, docs/design.md §8.2;
 - 4 to 20 mA loop sized for 22 mA (NAMUR NE 43 puts failure at >= 21 mA; 22 mA is
   common practice for the top of a transmitter's saturation);
 - I = 4 + 16 p for 4-20 mA (IEC 60381-1); 3 to 15 psig pneumatic (IEC 60382);
@@ -128,7 +129,7 @@ def test_double_split_tolerance_1_pct_travel(index_files, input_high_ma, fires):
 
 
 def test_range_chart_draws_the_intent_only_beyond_1_pct(index_files):
-    # docs/design.md §4.4: the chart draws the intended travel beside the settings' travel
+    # docs/design.md §8.2 and §4.4: the chart draws the intended travel beside the settings' travel
     # only when they differ by more than 1 % of travel (0.90 %: not drawn; 1.11 %: drawn).
     from loopdocs.draw.range_chart import chart_layout
 
@@ -147,7 +148,7 @@ def test_range_chart_draws_the_intent_only_beyond_1_pct(index_files):
 
 @pytest.mark.parametrize("gap_pct, rule", [(0.005, None), (0.02, "split.gap"), (-0.005, None), (-0.02, "split.overlap")])
 def test_gap_and_overlap_narrower_than_0_01_pct_co_are_rounding(index_files, gap_pct, rule):
-    # docs/design.md §5.6: two staged valves leaving 0.02 % CO uncovered (or both moving
+    # docs/design.md §4.2: two staged valves leaving 0.02 % CO uncovered (or both moving
     # over 0.02 % CO) are reported; 0.005 % is rounding in the index and is not.
     b_start = 50 + gap_pct
     rows = [CTRL, valve("TV-804A", (0, 50), (0, 100), (4, 12)),
@@ -394,7 +395,7 @@ def test_reading_exactly_at_the_tolerance_passes(reading_ma, status):
 
 
 def test_acceptance_needs_both_its_rule_and_its_tag(tmp_path):
-    # An engineering acceptance names one rule on one tag (docs/design.md §7, loopdocs.toml
+    # An engineering acceptance names one rule on one tag (docs/design.md §2.5, loopdocs.toml
     # [[accept]]); the same rule on another tag, and another rule on the same tag, stay open
     # (common practice for a reviewed exception: it covers what was reviewed, nothing more).
     from loopdocs.checks import check_project
