@@ -291,6 +291,17 @@ def readme_md() -> str:
         "thermocouple (port `head`) in the thermowell; `stack(base, port, top, port)` does the same",
         "for any pair.",
         "",
+        "Kinds that share a symbol are told apart by letters: the in-line meters (`element-meter`)",
+        "carry " + ", ".join(f"{devices.MEASURING[k].code} {k.value.replace(' flow meter', '')}"
+                             for k in devices.MeasuringKind
+                             if devices.MEASURING[k].part.file == "element-meter") + " in their box",
+        "(common practice, from memory); the analyser probe (`element-probe`) has pH, conductivity, O2",
+        "or analyser written beside it. Valve accessories are drawn where they are mounted: the signal",
+        "path (positioner, I/P), the air line to the actuator (lock-up, solenoid valve, booster), the",
+        "yoke (limit switch box, position transmitter) or the supply line (air filter regulator).",
+        "All drawings are our own, simple line symbols in the manner of ISA-5.1; the filter diamond",
+        "follows ISO 1219-1 and the earth IEC 60617 S00200 (both from memory).",
+        "",
         "## Line styles",
         "",
         "Defined once, in `lines.json`; read with `line_style(kind)`. `LineStyle.svg(points)` draws",
