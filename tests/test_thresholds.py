@@ -90,7 +90,9 @@ def test_single_valve_on_part_of_the_co_is_an_orphan_beyond_5_pct(index_files, c
     # 5 % CO tolerance of the full range (not a split); over 0 to 94.9 % it is a split range
     # that lost its partner (split.orphan).
     rows = [CTRL, valve("TV-801A", (0, co_end_pct), (0, 100), (4, 4 + 0.16 * co_end_pct))]
-    assert bool(of(index_files.check(rows), "split.orphan")) is orphan
+    result = index_files.check(rows)
+    assert bool(of(result, "split.orphan")) is orphan
+    assert of(result, "split.gap") == []  # a lone valve's idle CO is named by split.orphan, not as a gap
 
 
 # --------------------------------------------------------------------------- travel: 1 % of travel
@@ -172,12 +174,13 @@ def _staged_linear(cv_a: float, cv_b: float) -> list[dict]:
     return rows
 
 
-@pytest.mark.parametrize("cv_a, cv_b, fires", [(10, 19, False), (10, 21, True), (19, 10, False), (21, 10, True)])
+@pytest.mark.parametrize("cv_a, cv_b, fires", [(10, 19, False), (10, 20, False), (10, 21, True),
+                                                (19, 10, False), (20, 10, False), (21, 10, True)])
 def test_gain_ratio_band_half_to_double(index_files, cv_a, cv_b, fires):
     # Two linear valves staged at CO 50 %: each gives Cv / 50 % CO, so the loop gain changes
     # by Cv_B / Cv_A across the boundary (linear inherent characteristic, IEC 60534-1).
-    # Outside 0.5 to 2 it is a jump (docs/design.md §5.6, common practice): 1.9 and 1/1.9
-    # pass, 2.1 and 1/2.1 are reported.
+    # Outside 0.5 to 2 it is a jump (docs/design.md §5.6, common practice): 1.9, 2 and their
+    # inverses pass (the band includes its ends), 2.1 and 1/2.1 are reported.
     result = index_files.check(_staged_linear(cv_a, cv_b))
     assert result.splits[0].gain_ratios == pytest.approx((cv_b / cv_a,))
     assert bool(of(result, "split.capacity")) is fires
@@ -452,3 +455,34 @@ def test_settings_error_is_found_where_the_realised_travel_bends(index_files):
     found = of(index_files.check(rows), "split.settings")
     assert [f.tags for f in found] == [("TV-809A",)]
     assert re.search(r"travel off by " + number("12.5") + " % at CO " + number("43.75") + " %", found[0].message)
+
+
+@pytest.mark.parametrize("co, key", [((0, 100.5), "co_end_pct"), ((-0.5, 100), "co_start_pct")])
+def test_segment_outside_0_to_100_is_located_at_the_end_that_is_out(index_files, co, key):
+    # A finding names the cell to fix (docs/design.md §3.5): CO 0 to 100.5 % is wrong at
+    # CO End (0 is a valid start), CO -0.5 to 100 % at CO Start.
+    (f,) = of(index_files.check([CTRL, valve("TV-810", co, (0, 100), (4, 20))]), "split.segment")
+    assert index_files.where(f) == index_files.cell(key, 1)
+
+
+@pytest.mark.parametrize("device_volts, fires", [(11, False), (11.1, True)])
+def test_positioners_in_series_up_to_the_loop_volts(index_files, device_volts, fires):
+    # Two positioners in series on one 4-20 mA output with 22 V available: 2 x 11 V = 22 V
+    # fits exactly, 2 x 11.1 V = 22.2 V does not (voltages in series add, Kirchhoff's voltage
+    # law; docs/design.md §6.8).
+    rows = [dict(CTRL, loop_volts=22), valve("TV-811A", (0, 50), (100, 0), (4, 12), device_volts=device_volts),
+            valve("TV-811B", (50, 100), (0, 100), (12, 20), device_volts=device_volts)]
+    found = of(index_files.check(rows), "loop.load")
+    assert bool(found) is fires
+    if fires:
+        assert re.search(r"= " + number("22.20") + " V in series", found[0].message)
+
+
+def test_loop_load_with_device_volts_blank_is_not_verified(index_files):
+    # Loop Volts given on the controller but Device Volts blank on the valves: the load cannot
+    # be checked and the report says so instead of passing it (docs/design.md §2.3: blanks are
+    # not verified, never guessed).
+    rows = [dict(CTRL, loop_volts=22), valve("TV-812A", (0, 50), (100, 0), (4, 12)),
+            valve("TV-812B", (50, 100), (0, 100), (12, 20))]
+    notes = [f for f in index_files.check(rows).findings if f.rule == "check.not-verified"]
+    assert any("loop load" in f.message and "Device Volts blank" in f.message for f in notes)
