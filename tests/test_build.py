@@ -91,7 +91,8 @@ def test_example_package_metadata_and_drawing_list(example_build):
     meta = package.metadata
     assert meta.title == "Kettle Creek Brewery - brewhouse and utilities revamp: loop sheets"
     assert meta.author == "loopdocs"  # [title_block] drawn, no [sheet] author in the example
-    assert "revision A" in meta.subject and "11 sheets" in meta.subject
+    assert "revision A" in meta.subject and f"{len(example_build.loop_files)} sheets" in meta.subject
+    assert len(example_build.loop_files) == 13  # the example's 13 loops
     assert "loop sheets" in meta["/Keywords"] and "Brewhouse and utilities" in meta["/Keywords"]
     front = "\n".join(p.extract_text() for p in PdfReader(example_build.out_dir / CACHE_DIR_NAME / "front-0.pdf").pages)
     assert "DRAWING LIST" in front.upper()

@@ -26,3 +26,10 @@ def test_common_spelling_agrees_with_pint(spelling):
 def test_written_units(written, quantity):
     # pint's definitions (NIST SP 811 units); 'USD' is not a unit
     assert units.quantity_of(written) == quantity
+
+
+def test_trade_units_pint_does_not_know():
+    # pH is a logarithmic measure pint does not define as such: pint reads "pH" as picohenry
+    # (SI prefix p, henry H), so the trade table must be asked first
+    assert str(units.parse_unit("pH")) == "picohenry"
+    assert units.quantity_of("pH") == "acidity"

@@ -176,11 +176,16 @@ _COMMON_QUANTITIES: dict[str, str] = {
 }
 
 
+#: Trade units pint does not define, and what they measure (analysers; common practice).
+TRADE_QUANTITIES: dict[str, str] = {"pH": "acidity", "NTU": "turbidity", "%LEL": "gas concentration"}
+
+
 @cache
 def quantity_of(unit: str) -> str | None:
     """What a unit measures: ``temperature``, ``pressure``, ``length``, ``volume flow``,
     ``mass flow``, ``velocity``, ``volume``, ``mass``, ``current``, ``voltage``,
-    ``resistance``, ``ratio`` (%, dimensionless); ``other`` for any other unit pint knows;
+    ``resistance``, ``ratio`` (%, dimensionless), an analyser quantity of ``TRADE_QUANTITIES``
+    (``pH``); ``other`` for any other unit pint knows;
     ``None`` for a unit it does not know. Common spellings are answered from a table
     without building the registry.
 
@@ -192,6 +197,8 @@ def quantity_of(unit: str) -> str | None:
     expr = unit_expression(unit)
     if expr in _COMMON_QUANTITIES:
         return _COMMON_QUANTITIES[expr]
+    if expr in TRADE_QUANTITIES:
+        return TRADE_QUANTITIES[expr]
     return pint_quantity_of(unit)
 
 

@@ -65,8 +65,9 @@ RECORD_COLUMNS = (
     "expected", "unit", "low", "high", "output_span", "tolerance_pct", "digest",
 )
 
-#: Ref of a test row: ``TAG/NN``; a loop check's ``TAG/LNN``, a fail-action test's ``TAG/FNN``.
-_REF_PREFIX = {"loop check": "L", "fail action": "F"}
+#: Ref of a test row: ``TAG/NN``; a loop check's ``TAG/LNN``, a fail-action test's ``TAG/FNN``, an alarm test's
+#: ``TAG/ANN``, a switch test's ``TAG/SNN``.
+_REF_PREFIX = {"loop check": "L", "fail action": "F", "alarm": "A", "switch": "S"}
 
 _FILL_TITLE = "DCE6F1"
 _FILL_HEADER = "BFBFBF"
