@@ -260,6 +260,8 @@ def test_thermocouple_tolerance_class_ends(sensor):
     assert class_range_problems(s, low_c, high_c, "degC") == []
     assert [p.key for p in class_range_problems(s, low_c, high_c + 1, "degC")] == ["range_high"]
     assert [p.key for p in class_range_problems(s, low_c - 1, high_c, "degC")] == ["range_low"]
+    if low_c == -200:  # only class 3 reaches down to -200 degC (T, E, K, N)
+        assert "(class 3, IEC 60584-1)" in class_range_problems(s, low_c - 1, high_c, "degC")[0].text
 
 
 # --------------------------------------------------------------------------- CO and travel within 0 to 100 %
@@ -486,3 +488,14 @@ def test_loop_load_with_device_volts_blank_is_not_verified(index_files):
             valve("TV-812B", (50, 100), (0, 100), (12, 20))]
     notes = [f for f in index_files.check(rows).findings if f.rule == "check.not-verified"]
     assert any("loop load" in f.message and "Device Volts blank" in f.message for f in notes)
+
+
+@pytest.mark.parametrize("blank", ["", "   "])
+def test_a_blank_unit_is_no_unit(blank):
+    # A blank Units cell names no unit: no quantity, and asking pint for it is refused with
+    # that reason (pint itself reads "" as dimensionless, which would pass a blank as a ratio).
+    from loopdocs.calc.units import parse_unit, quantity_of
+
+    assert quantity_of(blank) is None
+    with pytest.raises(ValueError, match="no unit given"):
+        parse_unit(blank)
