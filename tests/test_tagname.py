@@ -93,3 +93,13 @@ def test_custom_pattern_needs_named_groups():
         compile_tag_pattern(r"(?P<letters>[A-Z]+)")
     with pytest.raises(ValueError, match="regular expression"):
         compile_tag_pattern(r"(?P<letters>[A-Z+")
+
+
+def test_position_switches_are_switches():
+    # ISA-5.1: Z position, S switch; ZSO/ZSC open/closed limit switches (common practice) are
+    # switches, not controllers, although C is also the controller letter
+    from loopdocs.model.tagname import TagKind, parse_tag, tag_kind
+
+    assert {t: tag_kind(parse_tag(t)) for t in ("ZSO-1201", "ZSC-1201", "ZSHH-1")} == dict.fromkeys(
+        ("ZSO-1201", "ZSC-1201", "ZSHH-1"), TagKind.SWITCH)
+    assert tag_kind(parse_tag("ZIC-1")) is TagKind.CONTROLLER

@@ -166,7 +166,16 @@ def parse_tag(tag: str, pattern: re.Pattern[str] | None = None) -> TagParts:
 
 
 def tag_kind(parts: TagParts) -> TagKind:
-    """What the tag is, from its succeeding letters (see ``_KIND_BY_LETTER``)."""
+    """What the tag is, from its succeeding letters (see ``_KIND_BY_LETTER``). A switch
+    followed only by its modifiers (H high, L low; O open and C closed on a position
+    switch, common practice) stays a switch: ``ZSC`` is a closed-position switch, not a
+    controller.
+
+    >>> tag_kind(parse_tag("ZSC-101")), tag_kind(parse_tag("PSHH-2")), tag_kind(parse_tag("TIC-3"))
+    (<TagKind.SWITCH: 'switch'>, <TagKind.SWITCH: 'switch'>, <TagKind.CONTROLLER: 'controller'>)
+    """
+    if re.fullmatch(r"S[HLOC]*", parts.functions):
+        return TagKind.SWITCH
     for letter, kind in _KIND_BY_LETTER:
         if letter in parts.functions:
             return kind
