@@ -108,3 +108,21 @@ def test_out_never_overwrites_the_input(tmp_path):
     assert index.read_bytes() == before
     result = runner.invoke(app, ["calibrate", str(index), "--out", str(tmp_path / "cal.csv")])
     assert result.exit_code == 2 and ".xlsx" in result.output
+
+
+def test_cache_records_never_delete_outside_the_output_folder(tmp_path):
+    # a manifest edited to name a file outside the output folder, an absolute path or a link
+    # deletes nothing (only regular .pdf files inside the folder are ever removed)
+    from loopdocs.core.files import remove_inside
+
+    out = tmp_path / "out"
+    (out / "loops").mkdir(parents=True)
+    victim = tmp_path / "precious.pdf"
+    victim.write_bytes(b"%PDF keep")
+    (out / "loops" / "link.pdf").symlink_to(victim)
+    own = out / "loops" / "T-1.pdf"
+    own.write_bytes(b"%PDF ours")
+    for relative in ("../precious.pdf", str(victim), "loops/link.pdf", "loops/../../precious.pdf"):
+        assert remove_inside(out, relative) is False
+    assert victim.read_bytes() == b"%PDF keep"
+    assert remove_inside(out, "loops/T-1.pdf") is True and not own.exists()

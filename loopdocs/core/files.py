@@ -59,3 +59,23 @@ def refuse_overwriting(out: Path, inputs: "list[Path | str]", what: str = "--out
         source_path = Path(source).expanduser().resolve()
         if target == source_path or (target.exists() and source_path.exists() and target.samefile(source_path)):
             raise InputError(f"{what} {out} is an input of this command ({source}); write the output to another file")
+
+
+def remove_inside(folder: Path, relative: str, suffix: str = ".pdf") -> bool:
+    """Delete ``folder / relative`` only if it is a regular file (not a link) with ``suffix``
+    that lies inside ``folder`` once resolved; True when deleted. A cache record edited to
+    name ``../../elsewhere`` or an absolute path deletes nothing.
+
+    >>> remove_inside(Path("/tmp"), "../etc/passwd")
+    False
+    """
+    base = Path(folder).resolve()
+    target = Path(folder) / relative
+    try:
+        resolved = target.parent.resolve() / target.name
+    except (OSError, RuntimeError):
+        return False
+    if base not in resolved.parents or target.is_symlink() or not target.is_file() or target.suffix != suffix:
+        return False
+    target.unlink(missing_ok=True)
+    return True

@@ -41,7 +41,7 @@ from pathlib import Path
 from typing import Any
 
 from loopdocs.core.errors import InputError
-from loopdocs.core.files import remove_partials, shareable
+from loopdocs.core.files import remove_inside, remove_partials, shareable
 from loopdocs.core.files import atomic_write
 from loopdocs.core.findings import Finding, FindingCounts
 from loopdocs.model.records import Project
@@ -248,7 +248,7 @@ def build(
         for gone in sorted(set(manifest.entries) - set(all_loops)):
             entry = manifest.forget(gone)
             if entry is not None:
-                (out_dir / entry.file).unlink(missing_ok=True)
+                remove_inside(out_dir, entry.file)  # only our own sheet inside the output folder
                 result.removed.append(gone)
 
     try:
@@ -373,7 +373,7 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
         result.front_rendered = True
     for stale in set(manifest.artefacts) - {f"front-{i}" for i in range(len(front_paths))} - {"package"}:
         entry = manifest.artefacts.pop(stale)
-        (result.out_dir / entry.file).unlink(missing_ok=True)
+        remove_inside(result.out_dir, entry.file)
 
     package_path = result.out_dir / PACKAGE_NAME
     package_key = digest_json({"front": front_key, "loops": [keys[l] for l in all_loops], "pdfa": pdfa})
