@@ -126,3 +126,17 @@ def test_cache_records_never_delete_outside_the_output_folder(tmp_path):
         assert remove_inside(out, relative) is False
     assert victim.read_bytes() == b"%PDF keep"
     assert remove_inside(out, "loops/T-1.pdf") is True and not own.exists()
+
+
+@pytest.mark.parametrize("toml,message", [
+    ('[index]\nfile = "../elsewhere/index.xlsx"\n', "outside the project folder"),
+    ("x = " + "[" * 100000 + "]" * 100000 + "\n", "loopdocs.toml"),
+])
+def test_project_file_mistakes_are_one_line(tmp_path, toml, message):
+    # a project file pointing outside its folder, or nested past any real use, ends in exit 2
+    # with one line, never a traceback
+    project = tmp_path / "proj"
+    project.mkdir()
+    (project / "loopdocs.toml").write_text(toml, encoding="utf-8")
+    result = runner.invoke(app, ["check", str(project)])
+    assert result.exit_code == 2 and message in result.output and "Traceback" not in result.output

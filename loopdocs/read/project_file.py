@@ -87,6 +87,8 @@ def load_config(path: Path) -> ProjectConfig:
         raise InputError(f"{path}: cannot read the project config ({exc})") from None
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{path}: not valid TOML ({exc})") from None
+    except RecursionError:
+        raise InputError(f"{path}: nested too deeply to be a loopdocs project file") from None
     try:
         return ProjectConfig.model_validate(data)
     except ValidationError as exc:
@@ -107,6 +109,9 @@ def locate(path: Path) -> ProjectPaths:
         config = load_config(config_file)
         if config.index.file:
             index = path / config.index.file
+            if path.resolve() not in index.resolve().parents:
+                raise InputError(f"{config_file}: [index] file = {config.index.file!r} is outside the project folder "
+                                 f"{path}; keep the index in the folder")
             if not index.is_file():
                 raise InputError(f"{config_file}: [index] file = {config.index.file!r} does not exist in {path}")
         else:
