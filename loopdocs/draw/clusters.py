@@ -178,6 +178,16 @@ def service_lines(tag: Tag, loop_service: str | None) -> list[str]:
     return wrap_text(tag.service, SERVICE_WRAP_MM, TEXT_MM, max_lines=4, balanced=True)
 
 
+def wrapped(lines: Iterable[str | None], width_mm: float = SERVICE_WRAP_MM) -> list[str]:
+    """Each free text from the index (interlock, area) wrapped at ``width_mm``: a long
+    interlock text takes three lines, not the width of its band; blanks left out.
+
+    >>> wrapped(["interlock CE-012 closes FV-1201 on mash tun high level", None, "SP 5"])
+    ['interlock CE-012', 'closes FV-1201 on', 'mash tun high level', 'SP 5']
+    """
+    return [part for line in lines if line for part in wrap_text(line, width_mm, TEXT_MM, balanced=True)]
+
+
 def earth_at(drawing: Drawing, point: Point, name: str) -> Rect:
     """A screen's earth symbol hung on a thin lead below ``point``, ``screen`` written
     beside it; returns the box of what it adds."""

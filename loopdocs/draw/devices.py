@@ -63,6 +63,7 @@ from loopdocs.draw.clusters import (
     service_lines,
     stack_height,
     stack_lines,
+    wrapped,
 )
 from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, Drawing, PlacedSymbol, PlacedText, Point, SignalLine
 from loopdocs.draw.symbols import BUILDING_BLOCK_PORTS, Symbol, load_symbol, stack
@@ -743,8 +744,7 @@ def valve_text_lines(tag: Tag) -> list[str]:
     lines: list[str] = []
     if tag.valve_size:
         lines.append(f"{tag.valve_size}, Cv {fmt_number(tag.cv)}" if tag.cv is not None else tag.valve_size)
-    lines += [t for t in (area_text(tag), interlock_text(tag)) if t]
-    return lines
+    return wrapped([*lines, area_text(tag), interlock_text(tag)])
 
 
 def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = None,

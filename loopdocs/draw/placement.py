@@ -40,6 +40,7 @@ from loopdocs.draw.clusters import (
     range_text,
     service_lines,
     terminal_cluster,
+    wrapped,
 )
 from loopdocs.draw.devices import element_cluster, valve_cluster
 from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, THIN_MM, Dot, Drawing, Frame, Path, PlacedText, Rect, SignalLine
@@ -69,8 +70,8 @@ from loopdocs.model.vocab import Shield
 
 MARGIN_MM = 3.0
 HEADER_MM = 8.0
-ROW_GAP_MM = 5.0
-COLUMN_GAP_MM = 10.0
+ROW_GAP_MM = 3.0
+COLUMN_GAP_MM = 6.0
 LABEL_MARGIN_MM = 1.5
 CONNECTOR_INSET_MM = 3.5
 """Distance of a merge connector or pneumatic header from the item it joins."""
@@ -130,7 +131,7 @@ def _draw_station(st: Station, r: int, title: str | None, show_strip: bool, has_
             tag = st.tag
             right = [f"{tag.control_action.value} acting"] if tag.control_action is not None else []
             rng = range_text(tag)
-            settings = [t for t in (set_point_text(tag), alarm_text(tag), interlock_text(tag)) if t]
+            settings = [t for t in (set_point_text(tag), alarm_text(tag)) if t] + wrapped([interlock_text(tag)])
             return instrument_cluster(tag, band_of(tag), right=right + ([rng] if rng else []) + settings)
         case InstrumentStation():
             tag = st.tag
@@ -150,7 +151,7 @@ def _device_settings(tag: Tag) -> list[str]:
     a switch's trip and reset, alarm settings, interlock, the hazardous area (field)."""
     setting = switch_setting_text(tag) if tag.kind is TagKind.SWITCH else set_point_text(tag)
     area = area_text(tag) if band_of(tag) == "field" else None
-    return [t for t in (setting, alarm_text(tag), interlock_text(tag), area) if t]
+    return [t for t in (setting, alarm_text(tag)) if t] + wrapped([interlock_text(tag), area])
 
 
 def _build_clusters(rows: list[Row], parts: LoopParts) -> None:
