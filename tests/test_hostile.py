@@ -140,3 +140,44 @@ def test_project_file_mistakes_are_one_line(tmp_path, toml, message):
     (project / "loopdocs.toml").write_text(toml, encoding="utf-8")
     result = runner.invoke(app, ["check", str(project)])
     assert result.exit_code == 2 and message in result.output and "Traceback" not in result.output
+
+
+def _rezip(src, dst, replace=None, extra=None):
+    import zipfile
+
+    with zipfile.ZipFile(src) as zin, zipfile.ZipFile(dst, "w", zipfile.ZIP_DEFLATED) as zout:
+        for info in zin.infolist():
+            data = zin.read(info.filename)
+            if replace and info.filename in replace:
+                data = replace[info.filename](data)
+            zout.writestr(info, data)
+        for name, data in (extra or {}).items():
+            zout.writestr(name, data)
+
+
+def test_far_corner_cell_is_refused_before_parsing(tmp_path):
+    # a cell at XFD1048576 made the reader allocate the whole sheet and abort the process;
+    # it is now refused in one line naming the limit (the process never aborts)
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.append(["Tag", "Signal"])
+    ws.append(["PT-1", "4-20 mA"])
+    ws["XFD1048576"] = "x"
+    path = tmp_path / "far.xlsx"
+    wb.save(path)
+    result = runner.invoke(app, ["check", str(path)])
+    assert result.exit_code == 2 and "LOOPDOCS_MAX_ROWS" in result.output and "XFD1048576" in result.output
+
+
+def test_zip_bomb_part_and_entities_are_refused(tmp_path):
+    base = _workbook(tmp_path, [{"tag": "PT-1", "signal": "4-20 mA"}], "base.xlsx")
+    bomb = tmp_path / "bomb.xlsx"
+    _rezip(base, bomb, extra={"xl/media/padding.bin": b"\0" * 60_000_000})  # 60 MB of zeros packs to ~60 kB
+    result = runner.invoke(app, ["check", str(bomb)])
+    assert result.exit_code == 2 and "LOOPDOCS_MAX_PART_MB" in result.output, result.output
+    entity = tmp_path / "entity.xlsx"
+    doctype = b'<!DOCTYPE x [<!ENTITY e "boom">]>'
+    _rezip(base, entity, replace={"xl/worksheets/sheet1.xml": lambda d: (
+        d.replace(b"?>", b"?>" + doctype, 1) if d.startswith(b"<?xml") else doctype + d)})
+    result = runner.invoke(app, ["check", str(entity)])
+    assert result.exit_code == 2 and "entities" in result.output

@@ -91,12 +91,84 @@ def check_workbook_file(path: Path) -> None:
         raise InputError(f"{path}: not an .xlsx workbook (not a zip archive); save it as .xlsx or .csv")
 
 
+#: Bounds on what a workbook may hold before anything is parsed. Each can be raised with an
+#: environment variable of the same name (``LOOPDOCS_MAX_ROWS=500000``) for a real index
+#: beyond it; the defaults are well above any instrument index.
+LIMITS = {"LOOPDOCS_MAX_ROWS": 200_000, "LOOPDOCS_MAX_COLUMNS": 1_000, "LOOPDOCS_MAX_PART_MB": 500}
+#: Compression ratio beyond which a large part is taken for a zip bomb (real sheet XML
+#: compresses 10 to 30 times).
+MAX_RATIO = 200
+
+_DIMENSION = re.compile(rb"""<(?:\w+:)?dimension\s+ref\s*=\s*["']([A-Z]{1,3})?([0-9]+)?(?::([A-Z]{1,3})([0-9]+))?["']""")
+
+
+def _limit(name: str) -> int:
+    import os
+
+    try:
+        return int(os.environ.get(name, LIMITS[name]))
+    except ValueError:
+        return LIMITS[name]
+
+
+def _column_number(letters: str) -> int:
+    """``A`` -> 1, ``Z`` -> 26, ``AA`` -> 27, ``XFD`` -> 16384."""
+    number = 0
+    for char in letters:
+        number = number * 26 + ord(char) - 64
+    return number
+
+
+def check_workbook_bounds(path: Path) -> None:
+    """Refuse, before any parse, a workbook that would take the reader past sane memory: a
+    part that decompresses past ``LOOPDOCS_MAX_PART_MB`` or at a zip-bomb ratio, a sheet
+    whose used range runs beyond ``LOOPDOCS_MAX_ROWS`` rows or ``LOOPDOCS_MAX_COLUMNS``
+    columns, or XML with entity declarations. One ``InputError`` line naming the limit."""
+    max_bytes = _limit("LOOPDOCS_MAX_PART_MB") * 1_000_000
+    try:
+        with zipfile.ZipFile(path) as archive:
+            for info in archive.infolist():
+                if info.file_size > max_bytes or (
+                        info.file_size > 20_000_000 and info.file_size > MAX_RATIO * max(info.compress_size, 1)):
+                    raise InputError(
+                        f"{path}: part {info.filename} unpacks to {info.file_size / 1e6:.0f} MB "
+                        f"({info.file_size / max(info.compress_size, 1):.0f} times its packed size), beyond what "
+                        f"an index holds (limit LOOPDOCS_MAX_PART_MB={max_bytes // 1_000_000})")
+                if info.filename.endswith(".xml") or info.filename.endswith(".rels"):
+                    with archive.open(info) as part:
+                        head = part.read(65536)
+                    if b"<!ENTITY" in head or b"<!DOCTYPE" in head:
+                        raise InputError(f"{path}: part {info.filename} declares XML entities; a workbook saved by a "
+                                         "spreadsheet program has none, so it is not read")
+                    if info.filename.startswith("xl/worksheets/"):
+                        _check_dimension(path, info.filename, head)
+    except InputError:
+        raise
+    except (OSError, zipfile.BadZipFile, ValueError, RuntimeError, NotImplementedError):
+        return  # the reader reports a damaged workbook in its own words
+
+
+def _check_dimension(path: Path, part: str, head: bytes) -> None:
+    match = _DIMENSION.search(head)
+    if match is None or match.group(3) is None:
+        return
+    rows, columns = int(match.group(4)), _column_number(match.group(3).decode())
+    max_rows, max_columns = _limit("LOOPDOCS_MAX_ROWS"), _limit("LOOPDOCS_MAX_COLUMNS")
+    if rows > max_rows or columns > max_columns:
+        corner = f"{match.group(3).decode()}{match.group(4).decode()}"
+        raise InputError(
+            f"{path}: {part} has its used range to cell {corner} ({rows} rows, {columns} columns), beyond "
+            f"LOOPDOCS_MAX_ROWS={max_rows} or LOOPDOCS_MAX_COLUMNS={max_columns}; delete the cells beyond the data "
+            "and save again, or raise the limit")
+
+
 def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None) -> IndexTable:
     """The index in sheet ``sheet`` (default: the first sheet with a Tag header)."""
     from python_calamine import CalamineError, CalamineWorkbook, SheetTypeEnum, ZipError
 
     lookup = lookup_for(column_map)
     check_workbook_file(path)
+    check_workbook_bounds(path)
     try:
         with CalamineWorkbook.from_path(str(path)) as book:
             names = list(book.sheet_names)
