@@ -181,3 +181,16 @@ def test_zip_bomb_part_and_entities_are_refused(tmp_path):
         d.replace(b"?>", b"?>" + doctype, 1) if d.startswith(b"<?xml") else doctype + d)})
     result = runner.invoke(app, ["check", str(entity)])
     assert result.exit_code == 2 and "entities" in result.output
+
+
+def test_a_huge_text_cell_is_cut_with_a_finding(tmp_path):
+    # a 1 MB Service made the build wrap text for minutes; a long one is cut at 10,000 characters, marked
+    # (a CSV field past 131,072 characters is refused by the CSV reader in one line)
+    from loopdocs.checks import check_project
+
+    path = tmp_path / "index.csv"
+    path.write_text("Tag,Service,Signal\nPT-6," + "x" * 100_000 + ",4-20 mA\n", encoding="utf-8")
+    checked = check_project(path)
+    service = checked.project.tags["PT-6"].service
+    assert len(service) == 10_000 + len(" [...]") and service.endswith(" [...]")
+    assert [f.location.row for f in checked.findings if f.rule == "index.long-text"] == [2]

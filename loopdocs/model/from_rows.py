@@ -12,6 +12,7 @@ Rules raised here (all name the cell):
   beyond 1e12 or closer to zero than 1e-9 (a typing or export error, never a setting).
 - ``index.unprintable`` (warning): control or direction-override characters, removed
   from the cell (no sheet, drawing or workbook can carry them).
+- ``index.long-text`` (warning): a text cell past 10,000 characters, cut with a mark.
 - ``index.read`` (warning): something the reader noticed (a formula with no cached value).
 """
 
@@ -39,13 +40,27 @@ _NUMBER_TEXT = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
 _UNPRINTABLE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f\u202a-\u202e\u2066-\u2069]")
 
 
+#: Longest text kept from one cell (a Service or Notes cell runs to a few hundred characters;
+#: a longer one is a paste gone wrong and would only slow every drawing that wraps it).
+MAX_TEXT_CHARS = 10_000
+TRUNCATED_MARK = " [...]"
+
+
 def _printable_row(row: Any, findings: list[Finding], at: Any) -> Any:
-    """The row with unprintable characters taken out of its text cells, and an
-    ``index.unprintable`` warning per cell that had any."""
+    """The row with unprintable characters taken out of its text cells (an
+    ``index.unprintable`` warning per cell that had any) and texts longer than
+    ``MAX_TEXT_CHARS`` cut with a visible mark (``index.long-text``)."""
     from dataclasses import replace
 
     values = dict(row.values)
     for key, value in row.values.items():
+        if isinstance(value, str) and len(value) > MAX_TEXT_CHARS:
+            values[key] = value = value[:MAX_TEXT_CHARS] + TRUNCATED_MARK
+            findings.append(Finding(
+                "index.long-text", Severity.WARNING,
+                f"row {row.row}: text of {len(row.values[key])} characters cut to {MAX_TEXT_CHARS}",
+                location=at(row.row, key),
+            ))
         if isinstance(value, str) and _UNPRINTABLE.search(value):
             values[key] = _UNPRINTABLE.sub("", value)
             findings.append(Finding(
@@ -186,7 +201,7 @@ def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tup
         return table.location(row, key)
 
     for row in table.rows:
-        if any(isinstance(v, str) and _UNPRINTABLE.search(v) for v in row.values.values()):
+        if any(isinstance(v, str) and (len(v) > MAX_TEXT_CHARS or _UNPRINTABLE.search(v)) for v in row.values.values()):
             row = _printable_row(row, findings, at)
         raw_tag = row.values.get("tag")
         if raw_tag is None:
