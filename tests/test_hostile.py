@@ -194,3 +194,18 @@ def test_a_huge_text_cell_is_cut_with_a_finding(tmp_path):
     service = checked.project.tags["PT-6"].service
     assert len(service) == 10_000 + len(" [...]") and service.endswith(" [...]")
     assert [f.location.row for f in checked.findings if f.rule == "index.long-text"] == [2]
+
+
+@pytest.mark.parametrize("pattern,refused", [
+    (r"(?P<letters>(A+)+)(?P<number>[0-9]+)", True),          # the textbook catastrophic shape
+    (r"(?P<letters>([A-Z]+-?)*)(?P<number>[0-9]+)", True),    # optional separator: the same
+    (r"(?P<letters>[A-Z]+)-(?P<number>[0-9]+)(-[0-9]+)*", False),  # each repeat starts with its literal
+])
+def test_tag_patterns_that_backtrack_are_refused(tmp_path, pattern, refused):
+    # a project tag pattern that backtracks catastrophically ran past 60 s on one tag
+    project = tmp_path / "proj"
+    project.mkdir()
+    write_index_workbook(project / "index.xlsx", [{"tag": "PT-1"}], spare_rows=0)
+    (project / "loopdocs.toml").write_text(f"[index]\ntag_pattern = '{pattern}'\n", encoding="utf-8")
+    result = runner.invoke(app, ["check", str(project)])
+    assert (result.exit_code == 2 and "opens with a repeat" in result.output) is refused, result.output

@@ -128,7 +128,17 @@ def compile_tag_pattern(pattern: str | None = None) -> re.Pattern[str]:
     missing = {"letters", "number"} - set(compiled.groupindex)
     if missing:
         raise TagPatternError(f"tag pattern {text!r} lacks the named group(s) {', '.join(sorted(missing))}")
+    if _NESTED_QUANTIFIER.search(text):
+        raise TagPatternError(
+            f"tag pattern {text!r} repeats a group that opens with a repeat (like (A+)+): matching it can take "
+            "longer than any index allows; write the group without the inner or the outer repeat")
     return compiled
+
+
+#: A repeated group that opens with a repeated atom, like ``(A+)+`` or ``([A-Z]+-?)*``: the
+#: shape that backtracks catastrophically. ``(-[0-9]+)*`` is fine (each repeat starts with
+#: its literal) and is not caught.
+_NESTED_QUANTIFIER = re.compile(r"\((?:\?P<\w+>|\?:)?(?:\[[^\]]*\]|\\.|[^()\\])[*+{][^()]*\)(?:[*+]|\{\d*,)")
 
 
 _DEFAULT = compile_tag_pattern()
