@@ -29,5 +29,45 @@ for _name in COMMAND_MODULES:
     importlib.import_module(_name).register(app)
 
 
+#: Exit code of a failure inside loopdocs (not the user's input): one line, the details in a log.
+EXIT_INTERNAL = 3
+
+
 def main() -> None:
-    app()
+    """Run the command line. An error in the input exits 2 with one line (the commands say
+    which cell or file); anything else exits 3 with one line apologising and naming the log
+    file that holds the traceback. ``--debug`` anywhere on the line shows the traceback."""
+    import sys
+
+    debug = "--debug" in sys.argv[1:]
+    if debug:
+        sys.argv = [arg for arg in sys.argv if arg != "--debug"]
+    try:
+        app(standalone_mode=True)
+    except SystemExit:
+        raise
+    except KeyboardInterrupt:
+        typer.echo("loopdocs: interrupted", err=True)
+        raise SystemExit(130) from None
+    except Exception as exc:  # the last line of defence: never a traceback on the terminal
+        if debug:
+            raise
+        log = _write_log(exc)
+        typer.echo(f"loopdocs: sorry, an internal error stopped this command ({type(exc).__name__}: "
+                   f"{' '.join(str(exc).split())[:200]}); the details are in {log}, please send them with the "
+                   "input; run again with --debug to see them", err=True)
+        raise SystemExit(EXIT_INTERNAL) from None
+
+
+def _write_log(exc: BaseException) -> str:
+    """Write the traceback to a log file in the temporary folder; its path."""
+    import tempfile
+    import traceback
+
+    try:
+        with tempfile.NamedTemporaryFile("w", prefix="loopdocs-error-", suffix=".log", delete=False,
+                                         encoding="utf-8") as log:
+            log.write("".join(traceback.format_exception(exc)))
+            return log.name
+    except OSError:
+        return "(no log could be written)"

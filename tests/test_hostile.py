@@ -209,3 +209,25 @@ def test_tag_patterns_that_backtrack_are_refused(tmp_path, pattern, refused):
     (project / "loopdocs.toml").write_text(f"[index]\ntag_pattern = '{pattern}'\n", encoding="utf-8")
     result = runner.invoke(app, ["check", str(project)])
     assert (result.exit_code == 2 and "opens with a repeat" in result.output) is refused, result.output
+
+
+def test_an_internal_error_is_one_line_and_a_log(tmp_path, monkeypatch, capsys):
+    # any failure that is not the input's ends in exit 3 with one line naming the log that holds
+    # the traceback; --debug shows it
+    import loopdocs.cli as cli
+
+    def broken(*args, **kwargs):
+        raise ZeroDivisionError("planted")
+
+    monkeypatch.setattr("loopdocs.checks.check_project", broken)
+    index = _workbook(tmp_path, [{"tag": "PT-9"}])
+    monkeypatch.setattr("sys.argv", ["loopdocs", "check", str(index)])
+    with pytest.raises(SystemExit) as stop:
+        cli.main()
+    err = capsys.readouterr().err
+    assert stop.value.code == 3 and "Traceback" not in err and "ZeroDivisionError: planted" in err
+    log = Path(err.split("the details are in ")[1].split(",")[0])
+    assert "ZeroDivisionError" in log.read_text() and "Traceback" in log.read_text()
+    monkeypatch.setattr("sys.argv", ["loopdocs", "check", str(index), "--debug"])
+    with pytest.raises(ZeroDivisionError):
+        cli.main()
