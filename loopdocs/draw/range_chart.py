@@ -43,13 +43,13 @@ from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm
 from loopdocs.core.formatting import fmt_pct, fmt_signal
 from loopdocs.model.groups import SplitElement, SplitGroup
 
-CHART_WIDTH_MM = 180.0
-CHART_HEIGHT_MM = 110.0
+CHART_WIDTH_MM = 150.0
+CHART_HEIGHT_MM = 95.0
 TEXT_MM = 2.5
 TITLE_MM = 3.5
 
 PLOT_LEFT_MM = 20.0
-PLOT_RIGHT_MM = 160.0
+PLOT_RIGHT_MM = 132.0
 PLOT_TOP_MM = 16.0
 PLOT_BOTTOM_MM = 78.0
 
@@ -317,12 +317,14 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     subtitle = _subtitle(group)
     plot_top = PLOT_TOP_MM + (0.0 if subtitle is None else 3.3)
     plot_rect = Rect(PLOT_LEFT_MM, plot_top, PLOT_RIGHT_MM - PLOT_LEFT_MM, CHART_HEIGHT_MM - bottom_space - plot_top)
+    # as wide as its title when the title is longer (3.5 mm bold on one line)
+    width = max(CHART_WIDTH_MM, round(text_width_mm(_title(group), TITLE_MM, bold=True) + 1.5, 1))
     chart = RangeChart(controller=group.controller, loop_id=group.loop,
-                       width_mm=CHART_WIDTH_MM, height_mm=CHART_HEIGHT_MM, plot=plot_rect)
+                       width_mm=width, height_mm=CHART_HEIGHT_MM, plot=plot_rect)
     chart.title = f"Range chart {group.controller}"
     chart.description = _title(group)
     plot = chart.plot
-    placer = _Placer(Rect(0.0, 0.0, CHART_WIDTH_MM, CHART_HEIGHT_MM + 60.0))
+    placer = _Placer(Rect(0.0, 0.0, width, CHART_HEIGHT_MM + 60.0))
 
     def put(text: PlacedText) -> PlacedText:
         chart.texts.append(text)
