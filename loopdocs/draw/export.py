@@ -6,7 +6,7 @@ This is what ``loopdocs draw`` writes and what the sheet renderer embeds:
 - :func:`loop_diagram_svg` -- the diagram of one loop (natural size
   ``LoopLayout.width_mm`` x ``height_mm``, from :func:`loopdocs.draw.layout.layout_loop`);
 - :func:`loop_charts` -- the split groups of one loop that get a range chart, with the
-  SVG of each (natural size ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM``, 150 x 95 mm);
+  SVG of each (natural size ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM``, 160 x 95 mm);
 - :func:`drawing_files` -- every file of a project, names and SVG text;
 - :func:`write_drawings` -- write them atomically, leaving files whose bytes are
   unchanged untouched (so caches and file dates stay valid).

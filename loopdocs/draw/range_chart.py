@@ -43,13 +43,13 @@ from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm
 from loopdocs.core.formatting import fmt_pct, fmt_signal
 from loopdocs.model.groups import SplitElement, SplitGroup
 
-CHART_WIDTH_MM = 150.0
+CHART_WIDTH_MM = 160.0
 CHART_HEIGHT_MM = 95.0
 TEXT_MM = 2.5
 TITLE_MM = 3.5
 
 PLOT_LEFT_MM = 20.0
-PLOT_RIGHT_MM = 132.0
+PLOT_RIGHT_MM = 142.0
 PLOT_TOP_MM = 16.0
 PLOT_BOTTOM_MM = 78.0
 
