@@ -200,3 +200,21 @@ def test_a_lone_hand_controller_loop_is_joined(tmp_path):
     layout = layout_loop(_load(tmp_path, rows), "H-520")
     assert _bubble_is_connected(layout, "HIC-520")
     assert overlap_problems(layout) == [] and crossing_problems(layout) == []
+
+
+def test_series_loop_with_cores_marks_its_output_once_and_clear_of_the_wires(tmp_path):
+    # found by the random loops: a positioner series loop whose cable gives its cores drew the
+    # cabinet terminal's own + and - beside the series output marks, one crossing the return
+    # wire; the output of a series loop is marked once (common practice: one + and one - per pair)
+    valve = {"location": "field", "platform": "device", "air_action": "ATO", "fail_position": "FC",
+             "signal": "4-20 mA", "split_method": "positioner", "cabinet": "CAB9", "cabinet_terminals": "X2:01-02"}
+    rows = [
+        {"tag": "TIC-710", "platform": "dcs", "location": "control room", "control_action": "reverse"},
+        {"tag": "TV-710A", **valve, "driven_by": "TIC-710", "co_start_pct": 0, "co_end_pct": 50,
+         "cores": "1+ 2- S", "shield": "cabinet"},
+        {"tag": "TV-710B", **valve, "driven_by": "TIC-710", "co_start_pct": 50, "co_end_pct": 100},
+    ]
+    layout = layout_loop(_load(tmp_path, rows), "T-710")
+    assert overlap_problems(layout) == [] and crossing_problems(layout) == []
+    marks = [t.text for t in layout.texts if t.role == "polarity"]
+    assert marks.count("+") == 1 and marks.count("\u2212") == 1

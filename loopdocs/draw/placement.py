@@ -106,14 +106,16 @@ def _enclosure_titles(rows: list[Row]) -> dict[tuple[int, str], str]:
 
 
 def _draw_station(st: Station, r: int, title: str | None, show_strip: bool, has_taps: bool,
-                  service: str | None) -> Cluster:
-    """The cluster of one station of row ``r``; ``title`` names the enclosure it opens."""
+                  service: str | None, in_series: bool = False) -> Cluster:
+    """The cluster of one station of row ``r``; ``title`` names the enclosure it opens.
+    The shared cabinet terminal of positioners in series carries no polarity marks of its
+    own: the series wiring marks the output + and - (:func:`_series_wires`)."""
     match st:
         case TerminalStation():
             kind = "terminal-jb" if st.column == "J" else "terminal-cabinet"
             return terminal_cluster(kind, st.terminals, [title] if title else [],
                                     name=f"terminal:{st.column}:{r}", show_strip=show_strip,
-                                    polarity=st.polarity, earth=st.earth)
+                                    polarity=st.polarity and not (in_series and st.column != "J"), earth=st.earth)
         case BarrierStation():
             return barrier_cluster(st.text, name=f"barrier:{r}")
         case IoStation():
@@ -166,7 +168,8 @@ def _build_clusters(rows: list[Row], parts: LoopParts) -> None:
                 strip = (st.enclosure, st.strip())
                 show_strip = title is not None or last_strip.get(st.column) != strip
                 last_strip[st.column] = strip
-            st.cluster = _draw_station(st, r, title, show_strip, has_taps, parts.loop_service)
+            st.cluster = _draw_station(st, r, title, show_strip, has_taps, parts.loop_service,
+                                       in_series=bool(row.series) or row.series_of is not None)
 
 
 # --------------------------------------------------------------------------- placing
