@@ -499,3 +499,23 @@ def test_a_blank_unit_is_no_unit(blank):
     assert quantity_of(blank) is None
     with pytest.raises(ValueError, match="no unit given"):
         parse_unit(blank)
+
+
+def test_fail_open_pneumatic_valve_that_goes_open_has_no_finding(index_files):
+    # ATC on a 3-15 psig signal, FO: on loss of air or of the pneumatic signal the spring opens
+    # it to 100 % travel (air to close, fail open: a fact of the trade), as declared; nothing
+    # to report, and the same valve declared FC is a contradiction (valve.air-fail).
+    ctrl = {"tag": "PIC-901", "platform": "dcs", "signal": "4-20 mA", "control_action": "direct"}
+    good = {"tag": "PV-901", "signal": "3-15 psig", "air_action": "ATC", "fail_position": "FO", "driven_by": "PIC-901"}
+    assert [f.rule for f in index_files.check([ctrl, good]).findings if f.rule.startswith("valve.")] == []
+    bad = {**good, "fail_position": "FC"}
+    assert "valve.air-fail" in {f.rule for f in index_files.check([ctrl, bad]).findings}
+
+
+@pytest.mark.parametrize("low, high", [(None, 10), (0, None), (0, 10)])
+def test_a_range_with_either_end_and_no_units_is_reported(index_files, low, high):
+    # A range without units cannot be calibrated (common practice: a number without its unit
+    # is no value); one end given is already a range to question (range.no-units).
+    row = {"tag": "PT-902", "signal": "4-20 mA", "range_low": low, "range_high": high}
+    found = of(index_files.check([{k: v for k, v in row.items() if v is not None}]), "range.no-units")
+    assert [f.tags for f in found] == [("PT-902",)]
