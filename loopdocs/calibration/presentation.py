@@ -11,7 +11,9 @@ A ``TableView`` holds everything a writer shows and nothing it has to work out:
   ``Flow m3/h``, ``Apply DP kPa``, ``Signal mA``, ``Expect mA``) and its decimals;
 - ``rows``: the distinct test points as text (a point read rising and again falling
   has the same values: shown once), with the limits of the expected value;
-- ``tolerance``: one wording (``±0.25 % of span = ±0.1125 degC = ±0.04 mA``);
+- ``tolerance``: one wording (``±0.25 % of span = ±0.1125 degC = ±0.04 mA``), with its
+  basis in brackets when the index gave no Accuracy % (``tolerance_basis`` holds that
+  basis alone, so that a loop sheet can print a basis shared by several tables once);
 - ``notes``: the table's own notes, then the derived ones: the basis of every simulated
   value, the NAMUR NE 43 levels, the control-system scaling to enter;
 - ``readings``: every test point in both directions with its low and high limit, the
@@ -139,6 +141,14 @@ class TableView:
     tolerance: str
     notes: tuple[Note, ...]
     readings: tuple[Reading, ...]
+    tolerance_basis: str = ""
+    """The basis in brackets at the end of ``tolerance`` (``''`` when there is none)."""
+
+    @property
+    def tolerance_amount(self) -> str:
+        """``tolerance`` without its basis: ``'±1 % of span = ±1 % travel'``."""
+        suffix = f" ({self.tolerance_basis})"
+        return self.tolerance[:-len(suffix)] if self.tolerance_basis and self.tolerance.endswith(suffix) else self.tolerance
 
     @property
     def heads(self) -> tuple[str, ...]:
@@ -169,7 +179,14 @@ def tolerance_text(table: CalibrationTable) -> str:
         return "none in the index"
     parts = [f"\u00b1{fmt_number(tol.percent_of_span)} % of span"]
     parts += [f"\u00b1{fmt_number(q.value)} {q.unit}" for q in (tol.input, tol.output) if q is not None]
-    return " = ".join(parts) + (f" ({tol.basis})" if tol.basis != INDEX_BASIS else "")
+    return " = ".join(parts) + (f" ({tol.basis})" if tolerance_basis(table) else "")
+
+
+def tolerance_basis(table: CalibrationTable) -> str:
+    """How the tolerance was obtained when the index has no Accuracy % for the tag
+    (``''`` when it has, or when there is no tolerance)."""
+    tol = table.tolerance
+    return tol.basis if tol is not None and tol.basis != INDEX_BASIS else ""
 
 
 def range_text(table: CalibrationTable, in_decimals: int = 3, out_decimals: int = 3) -> str:
@@ -308,7 +325,7 @@ def present_table(table: CalibrationTable) -> TableView:
         range_text=range_text(table, apply_column.decimals, out_dec), percent_head=percent_head,
         percent_decimals=pct_dec, columns=tuple(columns),
         rows=rows, limits=limits, limits_unit=out_unit if tol else "", tolerance=tolerance_text(table),
-        notes=tuple(notes_of(table)), readings=tuple(readings),
+        notes=tuple(notes_of(table)), readings=tuple(readings), tolerance_basis=tolerance_basis(table),
     )
 
 
@@ -352,7 +369,7 @@ def merged_loop_check(tables: Sequence[CalibrationTable]) -> TableView:
         tag=", ".join(tags), kind=LOOP_CHECK, words=first.words, service=first.service, range_text=first.range_text,
         percent_head=first.percent_head, percent_decimals=first.percent_decimals, columns=tuple(columns), rows=rows,
         limits=tuple(("", "") for _ in rows), limits_unit="", tolerance=first.tolerance, notes=tuple(notes),
-        readings=tuple(r for v in views for r in v.readings),
+        readings=tuple(r for v in views for r in v.readings), tolerance_basis=first.tolerance_basis,
     )
 
 

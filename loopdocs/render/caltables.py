@@ -5,12 +5,18 @@ terminal and the workbook show) with their widths and heights on the sheet.
 Nothing is worded or computed here beyond layout: column widths are measured with the
 font's advance widths (``loopdocs.draw.text``), heights estimated from the wrapped
 caption and notes; ``render.packing`` places them on the sheet by these sizes.
+
+A note (or a tolerance basis) that two or more tables of one sheet would print word for
+word is printed once among the sheet's numbered notes, and each of those tables refers
+to it by its number (:func:`share_notes`); the terminal and the workbook keep every
+table's notes in full.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from loopdocs.calc.tables import CalibrationTable
 from loopdocs.calibration.presentation import TableView, present_tables
@@ -19,13 +25,22 @@ TABLE_TEXT_MM = 2.5
 """Font size of the calibration tables (dense tables: 1.82 mm capitals)."""
 CAPTION_TAG_MM = 3.5
 """Font size of the tag at the head of a table's caption (``sheet.css`` ``table.cal caption .tag``)."""
-SPARE_MM = 3.5
-"""Added to the estimated height of a table: the estimate was within 3 mm of the
-rendered height for every table of the example project."""
+SPARE_MM = 1.0
+"""Added to the estimated height of a table: for every table of the example project the
+estimate was at most 0.3 mm short of the rendered height (and at most one line over)."""
 CELL_PAD_MM = 2.6
 """Left and right cell padding plus the rule, per column (``sheet.css`` ``table.dense``)."""
-MIN_TABLE_MM = 56.0
-"""Narrowest table, so that its caption and notes do not wrap into a tall column."""
+MIN_TABLE_MM = 54.0
+"""Narrowest table, so that its caption and notes do not wrap into a tall column; two
+side by side fit beside a 160 mm range chart in the A3 drawing area (278.6 mm wide,
+4 mm gaps: 160 + 4 + 54 + 4 + 54 = 276)."""
+LONG_HEAD_MM = 40.0
+"""A column head longer than this may break into three lines (``Simulate mV (ref. junction
+0 degC)``), so that its table stays narrow."""
+LINE_HEIGHT = 1.1
+"""Line height of the calibration tables, x the type (``sheet.css`` ``table.cal``)."""
+ROW_PAD_MM = 0.25 + 0.25 + 0.25
+"""Top and bottom cell padding and one 0.25 mm rule per row (``sheet.css`` ``table.cal``)."""
 
 
 @dataclass(frozen=True)
@@ -40,6 +55,19 @@ class DisplayTable:
     notes: tuple[str, ...] = ()
     text_columns: tuple[int, ...] = ()
     """Columns of words, set left aligned (the others hold numbers, right aligned)."""
+    note_emphasis: tuple[str, ...] = ()
+    """``presentation.Note.emphasis`` of each note (``action``, ``error``: kept with the table)."""
+    tolerance_basis: str = ""
+    """The basis in brackets at the end of ``tolerance`` (``presentation.TableView``)."""
+    note_refs: tuple[int, ...] = ()
+    """Numbers of the sheet notes that hold this table's shared notes (:func:`share_notes`)."""
+
+    @property
+    def refs_text(self) -> str:
+        """``'see note 5'``, ``'see notes 5, 6'``, or ``''``."""
+        if not self.note_refs:
+            return ""
+        return f"see note{'s' if len(self.note_refs) > 1 else ''} {', '.join(str(n) for n in self.note_refs)}"
 
     def align(self, column: int) -> str:
         """``text`` or ``num``: the CSS class of a column's cells."""
@@ -48,16 +76,17 @@ class DisplayTable:
     @property
     def column_widths_mm(self) -> tuple[float, ...]:
         """Each column as wide as its widest cell (a head may break at its spaces into
-        two lines), measured with the font's advance widths."""
+        two lines, a head longer than ``LONG_HEAD_MM`` into three), measured with the font's advance widths."""
         from loopdocs.draw.text import text_width_mm, wrap_text
 
         widths = []
         for i, head in enumerate(self.heads):
             natural = text_width_mm(head, TABLE_TEXT_MM, bold=True)
-            two_lines = max(text_width_mm(line, TABLE_TEXT_MM, bold=True)
-                            for line in wrap_text(head, natural / 2 + 3.0, TABLE_TEXT_MM, bold=True)[:2])
+            broken = [max(text_width_mm(line, TABLE_TEXT_MM, bold=True)
+                          for line in wrap_text(head, natural / n + 3.0, TABLE_TEXT_MM, bold=True)[:n])
+                      for n in ((2, 3) if natural > LONG_HEAD_MM else (2,))]
             cells = max((text_width_mm(row[i], TABLE_TEXT_MM) for row in self.rows), default=0.0)
-            widths.append(max(min(natural, two_lines), cells) + CELL_PAD_MM)
+            widths.append(max(min(natural, *broken), cells) + CELL_PAD_MM)
         stretch = max(1.0, MIN_TABLE_MM / sum(widths)) if widths else 1.0
         return tuple(round(w * stretch, 1) for w in widths)
 
@@ -69,33 +98,89 @@ class DisplayTable:
     def height_mm(self) -> float:
         """Height as printed (``sheet.css`` ``table.dense``, ``table.cal``): the caption
         (tag in 3.5 mm type, words and tolerance wrapped to the width), the heads at
-        their column widths, one line per row, the notes wrapped; each cell line 1.15 x
-        the type, 0.8 mm padding and a 0.25 mm rule per row (within 2 mm of rendered
+        their column widths, one line per row, the notes wrapped; each cell line
+        ``LINE_HEIGHT`` x the type, 0.5 mm padding and a 0.25 mm rule per row (within 2 mm of rendered
         tables, tests/test_render.py, with ``SPARE_MM`` added)."""
         from loopdocs.draw.text import text_width_mm, wrap_text
 
-        line = TABLE_TEXT_MM * 1.15
-        rule = 0.8 + 0.25
+        line = TABLE_TEXT_MM * LINE_HEIGHT
+        rule = ROW_PAD_MM
         inner = max(self.width_mm - CELL_PAD_MM, 10.0)
         tag_mm = text_width_mm(self.tag + " ", CAPTION_TAG_MM, bold=True)
-        title_lines = wrap_text(" " * round(tag_mm / (TABLE_TEXT_MM * 0.318)) + self.title, self.width_mm,
-                                TABLE_TEXT_MM) if self.title else [""]
-        caption = CAPTION_TAG_MM * 1.15 + line * (len(title_lines) - 1) + 0.6
+        # the tag in larger type heads the first line: a word as wide stands in for it
+        # (wrap_text drops leading spaces)
+        stand_in = "n" * math.ceil(tag_mm / text_width_mm("n", TABLE_TEXT_MM))
+        title_lines = wrap_text(f"{stand_in} {self.title}", self.width_mm, TABLE_TEXT_MM) if self.title else [""]
+        caption = CAPTION_TAG_MM * LINE_HEIGHT + line * (len(title_lines) - 1) + 0.6
         if self.tolerance:
             caption += line * len(wrap_text(f"tolerance {self.tolerance}", self.width_mm, TABLE_TEXT_MM))
         head_lines = max((len(wrap_text(h, w - CELL_PAD_MM + 0.2, TABLE_TEXT_MM, bold=True))
                           for h, w in zip(self.heads, self.column_widths_mm)), default=1)
-        notes = sum(len(wrap_text(n, inner, TABLE_TEXT_MM)) for n in self.notes) * line + (rule if self.notes else 0.0)
+        foot = [*self.notes, self.refs_text] if self.refs_text else list(self.notes)
+        notes = sum(len(wrap_text(n, inner, TABLE_TEXT_MM)) for n in foot) * line + (rule if foot else 0.0)
         return round(caption + head_lines * line + rule + len(self.rows) * (line + rule) + notes + SPARE_MM, 1)
 
 
 def display_table(view: TableView) -> DisplayTable:
     """The printed form of one view: caption words, heads with units, rows, tolerance, notes."""
     return DisplayTable(tag=view.tag, title=view.words, heads=view.heads, rows=view.rows,
-                        tolerance=view.tolerance, notes=view.note_texts)
+                        tolerance=view.tolerance, notes=view.note_texts,
+                        note_emphasis=tuple(n.emphasis for n in view.notes), tolerance_basis=view.tolerance_basis)
 
 
 def display_tables(tables: Sequence[CalibrationTable]) -> list[DisplayTable]:
     """The printed tables of one loop in the order given (loop checks of one split group
     side by side, ``presentation.present_tables``)."""
     return [display_table(view) for view in present_tables(tables)]
+
+
+def share_notes(tables: Sequence[DisplayTable], first_number: int) -> tuple[list[DisplayTable], list[str]]:
+    """Notes printed word for word with two or more of the tables, and tolerance bases
+    shared likewise, taken out of the tables and numbered from ``first_number`` in the
+    order first met; returns the tables (each with ``note_refs`` to its shared notes,
+    a shared tolerance basis replaced by ``(note n)``) and the sheet notes to add.
+    Notes to act on or that report index errors stay with their table.
+
+    >>> a = DisplayTable("PV-1", "valve stroke", ("Apply psig",), (("3",),), "±1 % (by practice)",
+    ...                  ("pneumatic split", "own"), tolerance_basis="by practice")
+    >>> b = replace(a, tag="PV-2", notes=("pneumatic split",))
+    >>> tables, notes = share_notes([a, b], 3)
+    >>> notes, tables[0].tolerance, tables[0].notes, tables[0].refs_text
+    (['Tolerance: by practice.', 'Pneumatic split.'], '±1 % (note 3)', ('own',), 'see note 4')
+    """
+    def movable(table: DisplayTable) -> list[str]:
+        emphasis = table.note_emphasis or ("",) * len(table.notes)
+        return [n for n, e in zip(table.notes, emphasis) if not e]
+
+    counts: dict[str, int] = {}
+    for table in tables:
+        keys = set(movable(table)) | ({table.tolerance_basis + "\0basis"} if table.tolerance_basis else set())
+        for note in keys:
+            counts[note] = counts.get(note, 0) + 1
+    numbers: dict[str, int] = {}
+    sheet_notes: list[str] = []
+
+    def number(key: str, text: str) -> int:
+        if key not in numbers:
+            numbers[key] = first_number + len(sheet_notes)
+            sheet_notes.append(text if text.endswith(".") else text + ".")
+        return numbers[key]
+
+    result = []
+    for table in tables:
+        tolerance = table.tolerance
+        basis_key = table.tolerance_basis + "\0basis"
+        suffix = f" ({table.tolerance_basis})"
+        if table.tolerance_basis and tolerance.endswith(suffix) and counts.get(basis_key, 0) > 1:
+            n = number(basis_key, f"Tolerance: {table.tolerance_basis}")
+            tolerance = tolerance[:-len(suffix)] + f" (note {n})"
+        kept, emphasis, refs = [], [], []
+        for note, e in zip(table.notes, table.note_emphasis or ("",) * len(table.notes)):
+            if not e and counts.get(note, 0) > 1:
+                refs.append(number(note, note[:1].upper() + note[1:]))
+            else:
+                kept.append(note)
+                emphasis.append(e)
+        result.append(replace(table, tolerance=tolerance, notes=tuple(kept), note_emphasis=tuple(emphasis),
+                              note_refs=tuple(refs)))
+    return result, sheet_notes

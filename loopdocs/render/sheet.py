@@ -34,7 +34,7 @@ from loopdocs.core.wording import CAUTION
 from loopdocs.model.records import Loop, Tag
 from loopdocs.read.project_file import TitleBlock
 from loopdocs.core.formatting import fmt_number
-from loopdocs.render.caltables import DisplayTable, display_tables
+from loopdocs.render.caltables import DisplayTable, display_tables, share_notes
 from loopdocs.render.packing import Box, Placed, pack_pages, used_height_mm
 from loopdocs.render.settings import PAPERS, Paper, Revision, SheetSettings
 from loopdocs.render.trip_settings import settings_table
@@ -398,23 +398,32 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     release_reason = settings.release_reason(pieces.loop.id) if blocked else None
     calibrations = display_tables(pieces.calibrations)
     trips = settings_table([*pieces.tags, *pieces.linked_tags])
-    tables = ([trips] if trips else []) + calibrations
     notes = [*settings.notes, *frame.extra_notes]
     if calibrations:
         notes.append("Calibration: read every point rising, then falling; the values are those expected, "
                      "within the tolerance stated with each table.")
     if print_zoom(settings) != 1.0:
         notes.append(f"Drawn on {layout_paper(settings).name}, printed at half size on {settings.paper.name}.")
-    notes += tag_notes(pieces.tags)
     finding_views = [_finding_view(f) for f in open_findings]
     accepted_views = [_finding_view(f) for f in accepted]
     not_for_construction = blocked and release_reason is None
-    side_texts = notes + [f"{v['severity']} {v['rule']} ({v['tags']}): {v['message']}" for v in finding_views]
-    side_texts += [f"{v['severity']}, accepted {v['rule']} ({v['tags']}): {v['message']} Accepted by "
-                   f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
-    headings = 2 + bool(notes) + bool(accepted_views)
+    finding_texts = [f"{v['severity']} {v['rule']} ({v['tags']}): {v['message']}" for v in finding_views]
+    finding_texts += [f"{v['severity']}, accepted {v['rule']} ({v['tags']}): {v['message']} Accepted by "
+                      f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
     tag_rows_mm = 3.9 * (1 + len(pieces.tags))
     room = side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None)
+    # notes shared by several tables go to the sheet notes, unless the side column then
+    # overflows (its tags, findings and notes would move under the drawing)
+    own_notes = notes
+    for share in (True, False):
+        calibrations, shared_notes = (share_notes(calibrations, len(own_notes) + 1) if share
+                                      else (display_tables(pieces.calibrations), []))
+        notes = [*own_notes, *shared_notes, *tag_notes(pieces.tags)]
+        side_texts = notes + finding_texts
+        headings = 2 + bool(notes) + bool(accepted_views)
+        if side_text_mm(side_texts or ["-"], headings, SIDE_WIDTH_MM) + tag_rows_mm <= room:
+            break
+    tables = ([trips] if trips else []) + calibrations
     diagram, scale = None, 1.0
     box_w, box_h = content_box_mm(settings)
     if pieces.diagram_svg:
