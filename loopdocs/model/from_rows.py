@@ -261,7 +261,8 @@ def natural_key(text: str) -> tuple:
     >>> sorted(["T-10", "T-9", "F-100"], key=natural_key)
     ['F-100', 'T-9', 'T-10']
     """
-    return tuple((0, int(piece), "") if piece.isdigit() else (1, 0, piece) for piece in re.split(r"(\d+)", text) if piece)
+    return tuple((0, int(piece), "") if piece.isascii() and piece.isdigit() else (1, 0, piece)
+                 for piece in re.split(r"([0-9]+)", text) if piece)  # ASCII digits only: "¹" is a digit to isdigit
 
 
 def group_loops(tags: Iterable[Tag]) -> dict[str, Loop]:
