@@ -331,7 +331,8 @@ def test_json_contract_of_design_5(example_json):
             assert {"percent", "input", "output"} <= set(p)
             assert set(p["input"]) >= {"value", "unit"} and set(p["output"]) >= {"value", "unit"}
     kinds = {i["kind"] for i in example_json["instruments"]}
-    assert kinds == {"transmitter", "sensor", "converter", "final element", "fail action", "loop check", "switch", "alarm"}
+    assert kinds == {"transmitter", "sensor", "converter", "final element", "fail action", "loop check", "switch", "alarm",
+                     "accessory"}
     # every tag of the index is either tabulated or listed with a reason
     tabulated = {i["tag"] for i in example_json["instruments"]}
     skipped = {s["tag"] for s in example_json["skipped"]}

@@ -59,3 +59,29 @@ def test_switch_and_alarm_tables_from_the_index(index_files):
     assert ("PT-504", "transmitter") in by
     alarm = by[("PT-504", "alarm")]
     assert [(round(p.input.value, 9), p.output.value) for p in alarm.points] == [(16.8, 8.0), (18.4, 9.0)]
+
+
+def test_valve_accessory_tests(index_files):
+    # solenoid trip: de-energised, an FC valve must close (ISA-5.1 FC; common practice);
+    # limit switches make within 5 % of the end of travel (common practice, from memory)
+    from loopdocs.calibration.project_tables import calibration_set
+    from loopdocs.model.loading import load_project
+
+    rows = [
+        {"tag": "FIC-601", "platform": "dcs", "control_action": "reverse"},
+        {"tag": "FV-601", "signal": "4-20 mA", "driven_by": "FIC-601", "air_action": "ATO", "fail_position": "FC",
+         "input_low": 4, "input_high": 20, "input_units": "mA",
+         "accessories": "solenoid valve, open/closed limit switches"},
+        {"tag": "FIC-602", "platform": "dcs", "control_action": "reverse"},
+        {"tag": "FV-602", "signal": "4-20 mA", "driven_by": "FIC-602", "air_action": "ATC", "fail_position": "FO",
+         "input_low": 4, "input_high": 20, "input_units": "mA", "accessories": "ZSC"},
+    ]
+    cset = calibration_set(load_project(index_files.write(rows))[0])
+    by = {(t.tag, t.kind): t for t in cset.tables}
+    t = by[("FV-601", "accessory")]
+    assert [(p.direction, p.input.value, p.output.value) for p in t.points] == [
+        ("solenoid off", 12.0, 0.0), ("down", 4.0, 0.0), ("up", 20.0, 100.0)]
+    assert t.tolerance.output.value == pytest.approx(5.0)
+    # ATC: 0 % travel at 20 mA
+    t = by[("FV-602", "accessory")]
+    assert [(p.direction, p.input.value, p.output.value) for p in t.points] == [("down", 20.0, 0.0)]

@@ -95,3 +95,60 @@ def fail_action_table(
         output_range=(Quantity(0.0, TRAVEL_UNIT), Quantity(100.0, TRAVEL_UNIT)),
         notes=notes,
     )
+
+
+#: Band of travel from its end within which a limit switch must make, % (common practice:
+#: limit switches are set to make in the last few % of travel; from memory).
+LIMIT_SWITCH_BAND_PCT = 5.0
+ACCESSORY_KIND = "accessory"
+SOLENOID_OFF = "solenoid off"
+
+
+def accessory_table(
+    tag: str, accessories: tuple[str, ...], fail_position: str | None, settings: Settings
+) -> CalibrationTable | None:
+    """The function tests of a valve's accessories, one row each (``None`` without any):
+
+    - solenoid valve: hold 50 % travel, de-energise the solenoid; the valve must go to its
+      fail position (FC 0 %, FO 100 %, FL stays), like the fail-action test but tripped by
+      the solenoid;
+    - closed / open limit switch: stroke the valve towards 0 % (100 %) travel and write the
+      travel at which the switch makes; it must make within ``LIMIT_SWITCH_BAND_PCT`` of the
+      end.
+    Tolerance ``LIMIT_SWITCH_BAND_PCT`` % of travel.
+
+    >>> from loopdocs.calc.signals import MA_4_20
+    >>> t = accessory_table("FV-1", ("solenoid valve", "closed limit switch"), "FC",
+    ...                     Settings("positioner", "ATO", "direct", 4.0, 20.0, MA_4_20))
+    >>> [(p.direction, p.input.value, p.output.value) for p in t.points]
+    [('solenoid off', 12.0, 0.0), ('down', 4.0, 0.0)]
+    """
+    from loopdocs.calc.tables import tolerance_of
+
+    unit = settings.span.unit
+    points: list[Point] = []
+    notes: list[str] = []
+    if "solenoid valve" in accessories and fail_position in FAIL_TRAVEL_PCT:
+        hold = signal_for_travel(settings, HOLD_TRAVEL_PCT)
+        points.append(Point(HOLD_TRAVEL_PCT, Quantity(hold, unit), Quantity(FAIL_TRAVEL_PCT[fail_position], TRAVEL_UNIT),
+                            SOLENOID_OFF))
+        notes.append(f"solenoid: hold {hold:.4g} {unit} (travel {HOLD_TRAVEL_PCT:g} %), de-energise the solenoid; "
+                     f"{fail_position}: the valve must end {_WORDS[fail_position]}")
+    for name, end, direction in (("closed limit switch", 0.0, "down"), ("open limit switch", 100.0, "up")):
+        if name in accessories:
+            signal = signal_for_travel(settings, end)
+            points.append(Point(end, Quantity(signal, unit), Quantity(end, TRAVEL_UNIT), direction))
+            notes.append(f"{name}: stroke towards {end:g} % travel ({signal:.4g} {unit}); write the travel at which "
+                         f"the switch makes (within {LIMIT_SWITCH_BAND_PCT:g} % of the end)")
+    if not points:
+        return None
+    return CalibrationTable(
+        tag=tag,
+        kind=ACCESSORY_KIND,
+        points=tuple(points),
+        tolerance=tolerance_of(LIMIT_SWITCH_BAND_PCT, None, unit, 100.0, TRAVEL_UNIT,
+                               basis=f"{LIMIT_SWITCH_BAND_PCT:g} % of travel (common practice for accessory tests)"),
+        input_range=(Quantity(settings.span.low, unit), Quantity(settings.span.high, unit)),
+        output_range=(Quantity(0.0, TRAVEL_UNIT), Quantity(100.0, TRAVEL_UNIT)),
+        notes=tuple(notes),
+    )

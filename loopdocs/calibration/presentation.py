@@ -61,13 +61,14 @@ KIND_WORDS = {
     "loop check": "split-range loop check",
     "switch": "switch set-point test",
     "alarm": "alarm settings",
+    "accessory": "valve accessories (solenoid trip, limit switches)",
 }
 
 #: Kinds whose points are not places on a span (a switch trips at its set point): no % column.
 NO_PERCENT_KINDS = ("switch",)
 
 #: Head of the percentage column by kind (``% span`` otherwise).
-PERCENT_HEADS = {"final element": "% travel", "fail action": "% travel held", "loop check": "% CO"}
+PERCENT_HEADS = {"final element": "% travel", "fail action": "% travel held", "loop check": "% CO", "accessory": "% travel"}
 
 #: Column roles: what a writer may need to place a column (the workbook maps them on its own columns).
 PERCENT, APPLY, SIMULATE, EXPECT = "percent", "apply", "simulate", "expect"

@@ -422,16 +422,19 @@ def _stroke_for(element: Any) -> CalibrationTable | Skipped:
 
 
 def _with_fail_action(record: Tag, stroke: CalibrationTable, settings: Any) -> list[CalibrationTable]:
-    """The stroke table and the fail-action test row (``loopdocs.calc.fail_action``);
-    where there is no row (FAI, fail position unknown) the stroke table says why."""
-    from loopdocs.calc.fail_action import fail_action_table, fail_position_of
+    """The stroke table, the fail-action test row and the accessory tests
+    (``loopdocs.calc.fail_action``); where there is no fail-action row (FAI, fail position
+    unknown) the stroke table says why."""
+    from loopdocs.calc.fail_action import accessory_table, fail_action_table, fail_position_of
 
     air = record.air_action.value if record.air_action else None
     position, taken = fail_position_of(record.fail_position.value if record.fail_position else None, air)
     test = fail_action_table(record.tag, position, settings, stroke.tolerance)
+    accessories = accessory_table(record.tag, tuple(a.value for a in record.accessories), position, settings)
+    extra = [accessories.with_context(loop=stroke.loop, service=stroke.service)] if accessories else []
     if isinstance(test, str):
-        return [stroke.with_context(notes=[f"no fail-action test: {test}"])]
-    return [stroke, test.with_context(loop=stroke.loop, service=stroke.service, notes=[taken] if taken else [])]
+        return [stroke.with_context(notes=[f"no fail-action test: {test}"]), *extra]
+    return [stroke, test.with_context(loop=stroke.loop, service=stroke.service, notes=[taken] if taken else []), *extra]
 
 
 def _loop_check_for(group: Any, element: Any) -> CalibrationTable:

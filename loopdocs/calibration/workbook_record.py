@@ -20,6 +20,7 @@ CHECK_NAMES = {
     "fail action": "fail action",
     "switch": "set point",
     "alarm": "alarm",
+    "accessory": "accessory",
     "loop check": "loop check",
 }
 

@@ -67,7 +67,7 @@ RECORD_COLUMNS = (
 
 #: Ref of a test row: ``TAG/NN``; a loop check's ``TAG/LNN``, a fail-action test's ``TAG/FNN``, an alarm test's
 #: ``TAG/ANN``, a switch test's ``TAG/SNN``.
-_REF_PREFIX = {"loop check": "L", "fail action": "F", "alarm": "A", "switch": "S"}
+_REF_PREFIX = {"loop check": "L", "fail action": "F", "alarm": "A", "switch": "S", "accessory": "X"}
 
 _FILL_TITLE = "DCE6F1"
 _FILL_HEADER = "BFBFBF"
