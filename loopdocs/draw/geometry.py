@@ -298,6 +298,9 @@ class Drawing:
     dots: list[Dot] = field(default_factory=list)
     symbols: list[PlacedSymbol] = field(default_factory=list)
     texts: list[PlacedText] = field(default_factory=list)
+    free_corner_mm: tuple[float, float] | None = None
+    """A point from which the drawing holds nothing to its right and bottom edges (a
+    loop diagram's empty lower right, beside the field band): a sheet may set tables there."""
 
     def extend(self, other: "Drawing", dx: float = 0.0, dy: float = 0.0) -> None:
         """Add ``other``'s items moved by ``(dx, dy)``."""

@@ -582,8 +582,35 @@ def _bands(layout: Drawing, cols: _Columns) -> list[Band]:
         layout.texts.append(PlacedText(BAND_TITLES[band], (x0 + x1) / 2, top + ASCENT_EM * TITLE_MM, TITLE_MM,
                                        "middle", True, "band-title", "", fit_width_mm=max(x1 - x0 - 2.0, 1.0)))
     layout.paths.append(Path(((0.0, rule_y), (layout.width_mm, rule_y)), stroke_mm=THIN_MM, role="band-rule"))
-    for _, x in cols.boundaries:
-        # thin chain line (ISO 128-2 type 04.1, from memory), unlike any signal line
-        layout.paths.append(Path(((x, top), (x, layout.height_mm - MARGIN_MM)), stroke_mm=THIN_MM,
+    corner = _free_corner(layout, [x for _, x in cols.boundaries])
+    layout.free_corner_mm = corner
+    for i, (_, x) in enumerate(cols.boundaries):
+        # thin chain line (ISO 128-2 type 04.1, from memory), unlike any signal line; those
+        # right of the field band end above the free corner (the field band's edge does not)
+        bottom = corner[1] - FREE_CORNER_PAD_MM if corner and i else layout.height_mm - MARGIN_MM
+        layout.paths.append(Path(((x, top), (x, bottom)), stroke_mm=THIN_MM,
                                  dash_mm=(8.0, 1.5, 1.0, 1.5), role="band-boundary"))
     return bands
+
+
+FREE_CORNER_PAD_MM = 2.0
+"""Space between the lowest item right of the field band and the free corner below it."""
+FREE_CORNER_MIN_MM = (60.0, 15.0)
+"""Smallest free corner worth reporting (width, height): room for one table."""
+
+
+def _free_corner(layout: Drawing, boundaries: list[float]) -> tuple[float, float] | None:
+    """The top left of the empty lower right of the diagram: right of the field band's
+    edge (the first band boundary), below everything drawn there; ``None`` when smaller
+    than ``FREE_CORNER_MIN_MM``."""
+    if not boundaries:
+        return None
+    x = boundaries[0]
+    boxes = [s.box for s in layout.symbols] + [t.box for t in layout.texts] + [d.box for d in layout.dots]
+    boxes += [f.rect.grown((f.stroke_mm or 0) / 2) for f in layout.frames]
+    for item in (*layout.lines, *layout.paths):
+        boxes += item.segment_boxes()
+    y = max((b.bottom for b in boxes if b.right > x + 1e-6), default=0.0) + FREE_CORNER_PAD_MM
+    if layout.width_mm - x < FREE_CORNER_MIN_MM[0] or layout.height_mm - y < FREE_CORNER_MIN_MM[1]:
+        return None
+    return round(x, 3), round(y, 3)

@@ -79,7 +79,9 @@ def svg_document(drawing: Drawing) -> str:
     w, h = fmt_mm(drawing.width_mm), fmt_mm(drawing.height_mm)
     out = [
         '<?xml version="1.0" encoding="UTF-8"?>',
-        f'<svg xmlns="{SVG_NS}" version="1.1" width="{w}mm" height="{h}mm" viewBox="0 0 {w} {h}">',
+        f'<svg xmlns="{SVG_NS}" version="1.1" width="{w}mm" height="{h}mm" viewBox="0 0 {w} {h}"'
+        + (f' data-free-corner="{fmt_mm(drawing.free_corner_mm[0])} {fmt_mm(drawing.free_corner_mm[1])}"'
+           if drawing.free_corner_mm else "") + ">",
     ]
     if drawing.title:
         out.append(f"<title>{escape(drawing.title)}</title>")

@@ -17,7 +17,7 @@ positions in mm out.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 GAP_MM = 4.0
@@ -31,6 +31,9 @@ class Box:
     key: Any
     width_mm: float
     height_mm: float
+    free_corner_mm: tuple[float, float] | None = None
+    """A point inside the box (from its top left) from which the box holds nothing to
+    its right and bottom edges: other boxes may go there (a loop diagram's empty corner)."""
 
 
 @dataclass(frozen=True)
@@ -49,6 +52,9 @@ class Placed:
 
 
 def _overlaps(x: float, y: float, box: Box, other: Placed, gap_mm: float) -> bool:
+    corner = other.box.free_corner_mm
+    if corner is not None and x >= other.x_mm + corner[0] + gap_mm - 1e-6 and y >= other.y_mm + corner[1] + gap_mm - 1e-6:
+        return False
     return (x < other.right_mm + gap_mm and other.x_mm < x + box.width_mm + gap_mm
             and y < other.bottom_mm + gap_mm and other.y_mm < y + box.height_mm + gap_mm)
 
@@ -63,6 +69,14 @@ def place(box: Box, placed: Sequence[Placed], width_mm: float, height_mm: float,
         # under a box, flush with the left edge; beside it, flush with the top
         corners.add((0.0, round(p.bottom_mm + gap_mm, 3)))
         corners.add((round(p.right_mm + gap_mm, 3), 0.0))
+    # in a free corner: at its top, beside any box; at its left, under any box
+    for q in placed:
+        if q.box.free_corner_mm is None:
+            continue
+        cx, cy = round(q.x_mm + q.box.free_corner_mm[0] + gap_mm, 3), round(q.y_mm + q.box.free_corner_mm[1] + gap_mm, 3)
+        corners.add((cx, cy))
+        corners |= {(round(p.right_mm + gap_mm, 3), cy) for p in placed if p.right_mm + gap_mm > cx}
+        corners |= {(cx, round(p.bottom_mm + gap_mm, 3)) for p in placed if p.bottom_mm + gap_mm > cy}
     for x, y in sorted(corners, key=lambda c: (c[1], c[0])):
         if x + box.width_mm > width_mm + 1e-6 or y + box.height_mm > height_mm + 1e-6:
             continue
@@ -106,8 +120,13 @@ def pack_pages(first: Sequence[Box], rest: Sequence[Box], width_mm: float, heigh
     page that hold something else (the side column's text), left free; not returned."""
     best: list[list[Placed]] | None = None
     best_score: tuple[float, ...] = ()
+    plain_first = [replace(b, free_corner_mm=None) for b in first]
     for order in _orders(rest):
-        page, left = pack(first, width_mm, height_mm, gap_mm, taken)
+        page, left = pack(plain_first, width_mm, height_mm, gap_mm, taken)
+        # a free corner (of the diagram) opens to the tables only, once the charts are placed
+        corners = {b.key: b.free_corner_mm for b in first}
+        page = [replace(p, box=replace(p.box, free_corner_mm=corners.get(p.box.key))) if i >= len(taken) else p
+                for i, p in enumerate(page)]
         page, more = pack(order, width_mm, height_mm, gap_mm, page)
         pages = [page[len(taken):]]
         left = left + more

@@ -278,6 +278,19 @@ def svg_size_mm(svg: str) -> tuple[float, float]:
     return (float(match.group(2)), float(match.group(4))) if match else (0.0, 0.0)
 
 
+_FREE_CORNER = re.compile(r'<svg\b[^>]*?\bdata-free-corner="([0-9.]+) ([0-9.]+)"')
+
+
+def svg_free_corner_mm(svg: str) -> tuple[float, float] | None:
+    """The free lower-right corner an SVG of our draw code reports (``Drawing.free_corner_mm``).
+
+    >>> svg_free_corner_mm('<svg width="200mm" height="50mm" data-free-corner="100 30"/>')
+    (100.0, 30.0)
+    """
+    match = _FREE_CORNER.search(svg)
+    return (float(match.group(1)), float(match.group(2))) if match else None
+
+
 def fit_svg(svg: str, max_width_mm: float, max_height_mm: float) -> tuple[str, float]:
     """Scale an SVG drawn in mm (``width="Wmm" height="Hmm"`` with a viewBox) down to fit
     the box, never up; returns the SVG and the scale (1.0 when it fits).
@@ -354,18 +367,20 @@ def side_text_mm(texts: Sequence[str], headings: int, width_mm: float) -> float:
 
 def sheet_layout(diagram_mm: tuple[float, float] | None, charts_mm: Sequence[tuple[float, float]],
                  tables: Sequence[DisplayTable], settings: SheetSettings,
-                 side_top_mm: float = 0.0, side_foot_mm: float = 0.0) -> list[list[Placed]]:
+                 side_top_mm: float = 0.0, side_foot_mm: float = 0.0,
+                 diagram_corner_mm: tuple[float, float] | None = None) -> list[list[Placed]]:
     """Where the diagram, the range charts and the tables go, page by page
     (``packing.pack_pages``): the diagram at the top left at its own size, the charts
     next, the tables in the room left beside and under them, and in the side column
     between its text at the top (``side_top_mm``) and its foot (``side_foot_mm``:
-    caution, revisions, title block). Keys: ``("diagram", 0)``, ``("chart", i)``,
+    caution, revisions, title block); tables may also go in the diagram's free lower
+    right corner (``diagram_corner_mm``, ``Drawing.free_corner_mm``). Keys: ``("diagram", 0)``, ``("chart", i)``,
     ``("table", i)``; positions in mm from the top left of the drawing area."""
     box_w, box_h = content_box_mm(settings)
     side_x = box_w + SIDE_GAP_MM
     taken = [Placed(Box("side top", SIDE_WIDTH_MM, side_top_mm), side_x, 0.0),
              Placed(Box("side foot", SIDE_WIDTH_MM, side_foot_mm), side_x, box_h - side_foot_mm)]
-    first = [Box(("diagram", 0), *diagram_mm)] if diagram_mm else []
+    first = [Box(("diagram", 0), *diagram_mm, free_corner_mm=diagram_corner_mm)] if diagram_mm else []
     first += [Box(("chart", i), *size) for i, size in enumerate(charts_mm)]
     rest = [Box(("table", i), t.width_mm, t.height_mm) for i, t in enumerate(tables)]
     return pack_pages(first, rest, side_x + SIDE_WIDTH_MM, box_h, taken=taken)
@@ -433,8 +448,9 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     status = not_for_construction or release_reason is not None
     side_top = LOOP_HEAD_MM + (STATUS_MM if status else 0.0) + (
         side_text_mm(side_texts or ["-"], headings, SIDE_WIDTH_MM) + tag_rows_mm if side_notes else 0.0)
+    corner = svg_free_corner_mm(diagram) if diagram and scale == 1.0 else None
     pages = sheet_layout(svg_size_mm(diagram) if diagram else None, [svg_size_mm(c) for c in charts], tables,
-                         settings, side_top, side_bottom_mm(len(revisions(tb, settings))))
+                         settings, side_top, side_bottom_mm(len(revisions(tb, settings))), corner)
     content = {"diagram": [Markup(diagram) if diagram else None], "chart": [Markup(c) for c in charts], "table": tables}
     page_views = [{"height_mm": round(used_height_mm([p for p in page if p.x_mm < box_w]), 1),
                    "items": [{"kind": p.box.key[0], "item": content[p.box.key[0]][p.box.key[1]],
