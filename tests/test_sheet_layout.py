@@ -226,3 +226,20 @@ def test_the_diagrams_free_corner_holds_nothing_and_the_band_lines_stop_above_it
         assert all(b.bottom <= y + 1e-6 or b.right <= x + 1e-6 for b in boxes), loop_id
         assert y < drawing.height_mm and x < drawing.width_mm
     assert found >= 3  # the split loops' diagrams have an empty lower right
+
+
+def test_every_table_column_holds_the_longest_word_of_its_head(example_pdfs):
+    # The sheet breaks a head at its spaces only (CSS white-space: normal; a tag such as
+    # PV-6201A was printed across its column's rule when its width counted a break after
+    # the hyphen): each column holds its head's longest word in bold, padding included.
+    from loopdocs.draw.text import text_width_mm
+    from loopdocs.render.caltables import CELL_PAD_MM, TABLE_TEXT_MM
+
+    checked = 0
+    for loop_id, (p, _) in example_pdfs.items():
+        for table in display_tables(p.calibrations):
+            for head, width in zip(table.heads, table.column_widths_mm):
+                for word in head.split():
+                    assert text_width_mm(word, TABLE_TEXT_MM, bold=True) + CELL_PAD_MM <= width + 0.05, (loop_id, head)
+                    checked += 1
+    assert checked > 100

@@ -86,7 +86,9 @@ class DisplayTable:
                           for line in wrap_text(head, natural / n + 3.0, TABLE_TEXT_MM, bold=True)[:n])
                       for n in ((2, 3) if natural > LONG_HEAD_MM else (2,))]
             cells = max((text_width_mm(row[i], TABLE_TEXT_MM) for row in self.rows), default=0.0)
-            widths.append(max(min(natural, *broken), cells) + CELL_PAD_MM)
+            # a head breaks at its spaces only (not after the hyphen of a tag): its longest word fits
+            word = max(text_width_mm(w, TABLE_TEXT_MM, bold=True) for w in head.split()) if head.strip() else 0.0
+            widths.append(max(min(natural, *broken), word, cells) + CELL_PAD_MM)
         stretch = max(1.0, MIN_TABLE_MM / sum(widths)) if widths else 1.0
         return tuple(round(w * stretch, 1) for w in widths)
 
