@@ -166,17 +166,8 @@ class MeasuringEntry:
 # --------------------------------------------------------------------------- valves
 
 
-class BodyKind(Enum):
-    """The valve body."""
-
-    GLOBE = "globe"
-    ANGLE = "angle"
-    BUTTERFLY = "butterfly"
-    BALL = "ball"
-    SEGMENTED_BALL = "segmented ball"
-    ECCENTRIC_PLUG = "eccentric plug"
-    DIAPHRAGM = "diaphragm"
-    THREE_WAY = "three-way"
+#: The valve body: the index's own Valve Body vocabulary, one symbol per member.
+BodyKind = ValveBody
 
 
 class ActuatorKind(Enum):
@@ -566,7 +557,6 @@ def measuring_kind(element: Tag, feeds_transmitter: bool, transmitter: Tag | Non
     return MeasuringKind.GENERIC
 
 
-_BODY_BY_VALVE_BODY: Mapping[ValveBody, BodyKind] = MappingProxyType({v: BodyKind[v.name] for v in ValveBody})
 _ACTUATOR_BY_INDEX: Mapping[Actuator, ActuatorKind] = MappingProxyType({
     Actuator.SPRING_DIAPHRAGM: ActuatorKind.DIAPHRAGM, Actuator.SPRING_PISTON: ActuatorKind.SPRING_PISTON,
     Actuator.DOUBLE_ACTING_PISTON: ActuatorKind.PISTON, Actuator.ELECTRIC: ActuatorKind.ELECTRIC,
@@ -576,7 +566,7 @@ _ACTUATOR_BY_INDEX: Mapping[Actuator, ActuatorKind] = MappingProxyType({
 
 def body_kind(valve: Tag) -> BodyKind:
     """The Valve Body column; globe (the general two-way body) when blank."""
-    return _BODY_BY_VALVE_BODY[valve.valve_body] if valve.valve_body is not None else BodyKind.GLOBE
+    return valve.valve_body if valve.valve_body is not None else BodyKind.GLOBE
 
 
 def actuator_kind(valve: Tag) -> ActuatorKind:
