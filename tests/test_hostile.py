@@ -241,3 +241,19 @@ def test_a_superscript_digit_in_a_loop_cell_is_text(tmp_path):
     path = tmp_path / "index.csv"
     path.write_text("Tag,Loop\nTT-101,T-101\u00b9\nTT-102,T-102\n", encoding="utf-8")
     assert "T-101\u00b9" in check_project(path).project.loops
+
+
+def test_outputs_get_the_permissions_of_the_users_other_files(tmp_path):
+    # SVGs, the workbook and init files were created 0600 (mkstemp) while PDFs were 0644:
+    # every output now gets 0666 less the umask, like a file the user creates
+    import os
+
+    from loopdocs.core.files import atomic_write
+
+    mask = os.umask(0o022)
+    try:
+        target = tmp_path / "drawing.svg"
+        atomic_write(target, lambda tmp: tmp.write_text("<svg/>"))
+        assert target.stat().st_mode & 0o777 == 0o644
+    finally:
+        os.umask(mask)

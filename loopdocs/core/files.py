@@ -16,12 +16,14 @@ PARTIAL_GLOB = ".*.part"
 
 
 def atomic_write(path: Path, write: Any) -> None:
-    """Call ``write(tmp_path)`` then rename into ``path``: never a half-written file."""
+    """Call ``write(tmp_path)`` then rename into ``path``: never a half-written file, and
+    the permissions of a normally created file (``shareable``), whatever wrote it."""
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".part")
     os.close(fd)
     try:
         write(Path(tmp))
+        shareable(Path(tmp))
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
