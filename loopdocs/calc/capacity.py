@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Sequence
 
 from loopdocs.calc.signals import clamp01
@@ -282,9 +283,10 @@ def staged_segments(boundaries_pct: Sequence[float]) -> list[Intent]:
 
 
 def _grid_step_pct(free_pct: float, boundaries: int) -> float:
-    """Coarse step, % CO, so that the grid holds at most about 20 000 boundary sets."""
+    """Coarse step, % CO, so that the grid holds at most about 2 500 boundary sets (the local
+    refinement that follows goes down to 0.01 % CO)."""
     for step in (0.5, 1.0, 2.0, 2.5, 5.0, 10.0, 20.0):
-        if math.comb(int(free_pct / step) + boundaries, boundaries) <= 20_000:
+        if math.comb(int(free_pct / step) + boundaries, boundaries) <= 2_500:
             return step
     return max(free_pct / 4.0, 1.0)
 
@@ -320,6 +322,25 @@ def best_boundaries_pct(
         return [], 1.0
     chars = _per_element(characteristic, n, "characteristic")
     ranges = _per_element(rangeability, n, "rangeability")
+    bounds, jump = _best_boundaries(tuple(values), tuple(chars), tuple(float(r) for r in ranges), float(min_segment_pct))
+    return list(bounds), jump
+
+
+@lru_cache(maxsize=4096)
+def _best_boundaries(
+    values: tuple[float, ...], chars: tuple[str, ...], ranges: tuple[float, ...], min_segment_pct: float
+) -> tuple[tuple[float, ...], float]:
+    """:func:`best_boundaries_pct` on checked, hashable arguments, each distinct set of
+    valves searched once per process (an index repeats the same few valve sets)."""
+    bounds, jump = _search_boundaries(values, chars, ranges, min_segment_pct)
+    return tuple(bounds), jump
+
+
+def _search_boundaries(
+    values: tuple[float, ...], chars: tuple[str, ...], ranges: tuple[float, ...], min_segment_pct: float
+) -> tuple[Sequence[float], float]:
+    """The search of :func:`best_boundaries_pct` (its docstring)."""
+    n = len(values)
     proportional = recommended_boundaries_pct(values)
     proportional_jump = largest_gain_jump(gain_ratios(values, staged_segments(proportional), chars, ranges))
     if proportional_jump <= 1.0 + 1e-9:
@@ -352,13 +373,22 @@ def best_boundaries_pct(
             yield from grid(b + width_min, k + 1, step, (*prefix, b))
             b += step
 
-    step = _grid_step_pct(100.0 - n * width_min, n - 1)
-    best, best_jump = None, math.inf
-    for bounds in grid(width_min, 0, step, ()):
-        j = jump_of(bounds)
-        if j < best_jump:
-            best, best_jump = bounds, j
-    h = step / 2.0
+    best: tuple[float, ...] | None
+    if n == 2:
+        # one boundary b: the ratio (bottom[1] / (100 - b)) / (top[0] / b) is 1 at
+        # b = 100 k / (1 + k), k = top[0] / bottom[1], and grows away from it on each side,
+        # so the clamped root is the best boundary (no search needed)
+        k = top[0] / bottom[1]
+        best = (min(max(100.0 * k / (1.0 + k), width_min), 100.0 - width_min),)
+        best_jump, h = jump_of(best), 0.0
+    else:
+        step = _grid_step_pct(100.0 - n * width_min, n - 1)
+        best, best_jump = None, math.inf
+        for bounds in grid(width_min, 0, step, ()):
+            j = jump_of(bounds)
+            if j < best_jump:
+                best, best_jump = bounds, j
+        h = step / 2.0
     while best is not None and h >= 0.01 - 1e-12:
         improved = True
         while improved:
