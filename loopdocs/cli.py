@@ -18,6 +18,7 @@ COMMAND_MODULES = (
     "loopdocs.commands.build",
     "loopdocs.commands.calibrate",
     "loopdocs.commands.verify",
+    "loopdocs.commands.diff",
 )
 
 app = typer.Typer(

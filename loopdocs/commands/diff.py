@@ -1,0 +1,95 @@
+"""``loopdocs diff OLD NEW``: what changed between two issues of the index (tags added,
+removed, renamed and changed, the loops they touch, the split groups and calibration
+tables that change as a consequence), as a table or as one JSON object."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Annotated, Any
+
+import typer
+
+from loopdocs.commands import FormatOpt, OutputFormat, emit_json, fail_input
+from loopdocs.core.errors import InputError
+
+OldArg = Annotated[Path, typer.Argument(help="The earlier issue: index file (.xlsx, .xlsm, .csv) or project folder holding loopdocs.toml.")]
+NewArg = Annotated[Path, typer.Argument(help="The later issue: index file (.xlsx, .xlsm, .csv) or project folder holding loopdocs.toml.")]
+
+
+def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text) -> None:
+    """Compare two issues of the index: tags added, removed and renamed, the cells changed on each tag with old and new values, the loops affected, and the split groups and calibration tables that change as a consequence.
+
+    A tag counts as renamed when a removed and an added tag have every other cell equal (the row number aside).
+
+    Exit code 0 when the two issues do not differ, 1 when they do, 2 when an input could not be read.
+    """
+    from loopdocs.calibration.table_changes import changed_tables
+    from loopdocs.model.changes import compare_projects
+    from loopdocs.model.loading import load_project
+
+    try:
+        before = load_project(old)[0]
+        after = load_project(new)[0]
+    except InputError as exc:
+        fail_input(exc)
+    changes = compare_projects(before, after)
+    calibration = changed_tables(before, after, {r.old: r.new for r in changes.renamed})
+    if format is OutputFormat.json:
+        emit_json(diff_json(changes, calibration))
+    else:
+        print_diff(changes, calibration, old, new)
+    raise typer.Exit(1 if changes.any or calibration else 0)
+
+
+def diff_json(changes: Any, calibration: list[tuple[str, str]]) -> dict[str, Any]:
+    """``{added, removed, renamed, changed, loops, splits, calibration}``."""
+    return {
+        "added": [{"tag": t.tag, "loop": t.loop} for t in changes.added],
+        "removed": [{"tag": t.tag, "loop": t.loop} for t in changes.removed],
+        "renamed": [r.as_json() for r in changes.renamed],
+        "changed": [c.as_json() for c in changes.changed],
+        "loops": list(changes.loops),
+        "splits": [s.as_json() for s in changes.splits],
+        "calibration": [{"tag": tag, "kind": kind} for tag, kind in calibration],
+    }
+
+
+def print_diff(changes: Any, calibration: list[tuple[str, str]], old: Path, new: Path) -> None:
+    from rich.console import Console
+    from rich.markup import escape
+    from rich.table import Table
+
+    console = Console(highlight=False)
+    console.print(f"[bold]{escape(str(old))}[/] -> [bold]{escape(str(new))}[/]")
+    if not (changes.any or calibration):
+        console.print("No differences.")
+        return
+    table = Table(title="Tags", title_justify="left")
+    for head in ("Change", "Tag", "Loop", "Column", "Old", "New"):
+        table.add_column(head)
+    for t in changes.added:
+        table.add_row("added", escape(t.tag), escape(t.loop), "", "", "")
+    for t in changes.removed:
+        table.add_row("removed", escape(t.tag), escape(t.loop), "", "", "")
+    for r in changes.renamed:
+        table.add_row("renamed", escape(r.new), escape(r.new_loop), "Tag", escape(r.old), escape(r.new))
+    for c in changes.changed:
+        for i, f in enumerate(c.fields):
+            table.add_row("changed" if i == 0 else "", escape(c.tag) if i == 0 else "", escape(c.loop) if i == 0 else "",
+                          escape(f.column), escape(f.old), escape(f.new))
+    if table.row_count:
+        console.print(table)
+    if changes.splits:
+        splits = Table(title="Split groups", title_justify="left")
+        for head in ("Controller", "Loop", "What", "Old", "New"):
+            splits.add_column(head)
+        for s in changes.splits:
+            splits.add_row(escape(s.controller), escape(s.loop), escape(s.what), escape(s.old), escape(s.new))
+        console.print(splits)
+    if calibration:
+        console.print("Calibration tables changed: " + escape(", ".join(f"{tag} ({kind})" for tag, kind in calibration)))
+    console.print(f"Loops affected: {escape(', '.join(changes.loops)) or 'none'}")
+
+
+def register(app: typer.Typer) -> None:
+    app.command()(diff)

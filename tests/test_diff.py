@@ -1,0 +1,212 @@
+"""``loopdocs diff OLD NEW`` and ``loopdocs.model.changes``: two issues of an index written in
+the test, every kind of change found with the right old and new values.
+
+Reference values, with their sources:
+- 4-20 mA transmitter output linear in the measured value, I = 4 + 16 * (x - LRV) / (URV - LRV):
+  IEC 60381-1 (the 4 to 20 mA d.c. signal); so 12 mA is 75 degC on 0-150 degC and 100 degC on
+  0-200 degC;
+- an air-to-close (ATC) valve opens as its actuator pressure falls, so with a direct
+  positioner the input that opens it as the controller output rises runs from the high end
+  to the low end (20 to 12 mA instead of 12 to 20 mA): a fact of the trade (common practice);
+- in a split range each element moves linearly over its own CO segment, travel =
+  (CO - CO start) / (CO end - CO start) * 100 %: common practice (a loop check of the staged
+  valve LV-201A over 0-40 % CO expects 75 % travel at CO 30 %, and 100 % at CO 40 %).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+from typer.testing import CliRunner
+
+from loopdocs.cli import app
+from loopdocs.sheets.index_template import write_index_workbook
+
+
+runner = CliRunner()
+
+CTRL = {"tag": "TIC-101", "service": "Test tank temperature", "platform": "dcs", "signal": "4-20 mA",
+        "control_action": "reverse"}
+
+
+def cool() -> dict:
+    """Glycol valve: ATC, closes over CO 0-50 %, positioner 4-12 mA."""
+    return {"tag": "TV-101A", "signal": "4-20 mA", "air_action": "ATC", "fail_position": "FO",
+            "positioner_action": "direct", "driven_by": "TIC-101", "split_method": "positioner",
+            "co_start_pct": 0, "co_end_pct": 50, "travel_start_pct": 100, "travel_end_pct": 0,
+            "input_low": 4, "input_high": 12, "input_units": "mA", "effect": "lowers"}
+
+
+def heat(**changes) -> dict:
+    """Hot water valve: ATO, opens over CO 50-100 %, positioner 12-20 mA."""
+    return {"tag": "TV-101B", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+            "positioner_action": "direct", "driven_by": "TIC-101", "split_method": "positioner",
+            "co_start_pct": 50, "co_end_pct": 100, "travel_start_pct": 0, "travel_end_pct": 100,
+            "input_low": 12, "input_high": 20, "input_units": "mA", "effect": "raises", **changes}
+
+
+def staged(boundary: float = 25.0) -> list[dict]:
+    """LIC-201 filling a tank through a small then a large valve, each on its own output (dcs)."""
+    rows = [{"tag": "LIC-201", "platform": "dcs", "signal": "4-20 mA", "control_action": "reverse"}]
+    for suffix, cv, (a, b) in zip("AB", (10, 30), [(0, boundary), (boundary, 100)]):
+        rows.append({"tag": f"LV-201{suffix}", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+                     "positioner_action": "direct", "driven_by": "LIC-201", "split_method": "dcs",
+                     "co_start_pct": a, "co_end_pct": b, "travel_start_pct": 0, "travel_end_pct": 100,
+                     "input_low": 4, "input_high": 20, "input_units": "mA", "effect": "raises", "cv": cv,
+                     "characteristic": "linear", "io_address": f"AO-{suffix}"})
+    return rows
+
+
+TT = {"tag": "TT-1203", "service": "Reactor outlet temperature", "signal": "4-20 mA",
+      "range_low": 0, "range_high": 150, "units": "degC"}
+PT = {"tag": "PT-1301", "service": "Header pressure", "signal": "4-20 mA", "range_low": 0, "range_high": 10,
+      "units": "bar"}
+FT = {"tag": "FT-1401", "service": "Feed flow", "signal": "4-20 mA", "range_low": 0, "range_high": 50,
+      "units": "m3/h"}
+LT = {"tag": "LT-1501", "service": "Day tank level", "signal": "4-20 mA", "range_low": 0, "range_high": 100,
+      "units": "%"}
+
+OLD = [TT, PT, FT, CTRL, cool(), heat(), *staged()]
+NEW = [{**TT, "range_high": 200}, {**PT, "tag": "PT-1302"}, LT,
+       CTRL, cool(), heat(air_action="ATC", fail_position="FO"), *staged(boundary=40)]
+
+
+@pytest.fixture(scope="module")
+def issues(index_files):
+    return index_files.write(OLD, "diff_old.xlsx"), index_files.write(NEW, "diff_new.xlsx")
+
+
+@pytest.fixture(scope="module")
+def report(issues):
+    result = runner.invoke(app, ["diff", str(issues[0]), str(issues[1]), "--format", "json"])
+    assert result.exit_code == 1, result.output
+    return json.loads(result.output)
+
+
+def _fields(report, tag):
+    [change] = [c for c in report["changed"] if c["tag"] == tag]
+    return {f["column"]: (f["old"], f["new"]) for f in change["fields"]}
+
+
+def test_json_contract_keys(report):
+    assert set(report) == {"added", "removed", "renamed", "changed", "loops", "splits", "calibration"}
+    for change in report["changed"]:
+        assert set(change) == {"tag", "loop", "fields"}
+        assert all(set(f) == {"column", "old", "new"} for f in change["fields"])
+    assert all(set(s) == {"controller", "what", "old", "new"} for s in report["splits"])
+    assert all(set(c) == {"tag", "kind"} for c in report["calibration"])
+
+
+def test_range_change_on_a_transmitter(report):
+    # 0-150 degC -> 0-200 degC: only the Range High cell changed
+    assert _fields(report, "TT-1203") == {"Range High": ("150", "200")}
+    assert {"tag": "TT-1203", "kind": "transmitter"} in report["calibration"]
+
+
+def test_range_change_moves_the_calibration_points(issues):
+    # IEC 60381-1: 12 mA (50 %) is 75 degC on 0-150 and 100 degC on 0-200
+    from loopdocs.calibration.project_tables import calibration_set
+    from loopdocs.model.loading import load_project
+
+    def mid_input(path):
+        tables = calibration_set(load_project(path)[0]).tables
+        [table] = [t for t in tables if t.tag == "TT-1203" and t.kind == "transmitter"]
+        [point] = [p for p in table.points if p.percent == 50 and p.direction == "up"]
+        assert point.output.value == pytest.approx(12.0)
+        return point.input.value
+
+    assert mid_input(issues[0]) == pytest.approx(75.0)
+    assert mid_input(issues[1]) == pytest.approx(100.0)
+
+
+def test_added_removed_and_renamed(report):
+    assert report["added"] == [{"tag": "LT-1501", "loop": "L-1501"}]
+    assert report["removed"] == [{"tag": "FT-1401", "loop": "F-1401"}]
+    assert report["renamed"] == [{"old": "PT-1301", "new": "PT-1302", "old_loop": "P-1301", "new_loop": "P-1302"}]
+    named = {c["tag"] for c in report["changed"]}
+    # a rename is not also an add, a remove or a change; unchanged tags are not named
+    assert not named & {"PT-1301", "PT-1302", "TIC-101", "TV-101A", "LIC-201"}
+    assert named == {"TT-1203", "TV-101B", "LV-201A", "LV-201B"}
+
+
+def test_rename_needs_every_other_cell_equal(index_files):
+    from loopdocs.model.changes import compare_projects
+    from loopdocs.model.loading import load_project
+
+    old = load_project(index_files.write([PT]))[0]
+    new = load_project(index_files.write([{**PT, "tag": "PT-1302", "range_high": 16}]))[0]
+    changes = compare_projects(old, new)
+    assert not changes.renamed
+    assert [t.tag for t in changes.removed] == ["PT-1301"] and [t.tag for t in changes.added] == ["PT-1302"]
+
+
+def test_air_action_change_changes_the_split_settings(report):
+    assert _fields(report, "TV-101B") == {"Air Action": ("ATO", "ATC"), "Fail Position": ("FC", "FO")}
+    # ATC with a direct positioner: the opening input runs high to low (common practice)
+    assert {"controller": "TIC-101", "what": "TV-101B required input range",
+            "old": "12 to 20 mA", "new": "20 to 12 mA"} in report["splits"]
+    assert not [s for s in report["splits"] if s["what"].startswith("TV-101A")]
+    assert {"tag": "TV-101B", "kind": "fail action"} in report["calibration"]
+
+
+def test_co_boundary_change_changes_the_loop_check(report, issues):
+    assert _fields(report, "LV-201A") == {"CO End %": ("25", "40")}
+    assert _fields(report, "LV-201B") == {"CO Start %": ("25", "40")}
+    assert {"tag": "LV-201A", "kind": "loop check"} in report["calibration"]
+    assert {"tag": "LV-201B", "kind": "loop check"} in report["calibration"]
+    assert [s["what"] for s in report["splits"] if s["controller"] == "LIC-201"] == [
+        "LV-201A control-system scaling", "LV-201B control-system scaling"]
+
+    from loopdocs.calibration.project_tables import calibration_set
+    from loopdocs.model.loading import load_project
+
+    tables = calibration_set(load_project(issues[1])[0]).tables
+    [check] = [t for t in tables if t.tag == "LV-201A" and t.kind == "loop check"]
+    travel = {p.percent: p.output.value for p in check.points if p.direction == "up"}
+    # travel = (CO - 0) / (40 - 0) * 100 % on LV-201A's segment (common practice)
+    assert travel[30] == pytest.approx(75.0) and travel[40] == pytest.approx(100.0)
+
+
+def test_loops_affected_in_both_issues(report):
+    assert report["loops"] == ["F-1401", "L-201", "L-1501", "P-1301", "P-1302", "T-101", "T-1203"]
+
+
+def test_same_index_exits_0(issues):
+    result = runner.invoke(app, ["diff", str(issues[0]), str(issues[0]), "--format", "json"])
+    assert result.exit_code == 0, result.output
+    data = json.loads(result.output)
+    assert all(data[key] == [] for key in data)
+
+
+def test_terminal_table_names_cells_and_exits_1(issues):
+    result = runner.invoke(app, ["diff", str(issues[0]), str(issues[1])], env={"COLUMNS": "200"})
+    assert result.exit_code == 1
+    text = " ".join(result.stdout.split())
+    assert "TT-1203" in text and "Range High" in text and "20 to 12 mA" in text
+
+
+def test_unreadable_input_exits_2(issues, tmp_path):
+    result = runner.invoke(app, ["diff", str(issues[0]), str(tmp_path / "missing.xlsx")])
+    assert result.exit_code == 2
+    assert "no such file" in result.output
+
+
+def test_project_folder_against_an_index_file(issues, tmp_path):
+    folder = tmp_path / "plant"
+    folder.mkdir()
+    write_index_workbook(folder / "index.xlsx", NEW, spare_rows=0)
+    (folder / "loopdocs.toml").write_text('[title_block]\nproject = "Invented plant"\n', encoding="utf-8")
+    same = runner.invoke(app, ["diff", str(issues[1]), str(folder), "--format", "json"])
+    assert same.exit_code == 0, same.output
+    other = runner.invoke(app, ["diff", str(issues[0]), str(folder), "--format", "json"])
+    assert other.exit_code == 1
+    assert json.loads(other.output)["renamed"][0]["new"] == "PT-1302"
+
+
+def test_plain_values():
+    from loopdocs.model.changes import plain
+    from loopdocs.model.vocab import AirAction
+
+    assert plain(AirAction("ATC")) == "ATC" and plain(200.0) == "200" and plain(None) == ""
