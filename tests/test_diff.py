@@ -210,3 +210,39 @@ def test_plain_values():
     from loopdocs.model.vocab import AirAction
 
     assert plain(AirAction("ATC")) == "ATC" and plain(200.0) == "200" and plain(None) == ""
+
+
+def test_change_report_highlights_the_changed_cells(issues, tmp_path):
+    import openpyxl
+
+    from loopdocs.read.columns import COLUMNS
+    from loopdocs.sheets.change_report import ADDED_FILL, CHANGED_FILL, REMOVED_FILL
+
+    out = tmp_path / "changes.xlsx"
+    result = runner.invoke(app, ["diff", str(issues[0]), str(issues[1]), "--out", str(out)])
+    assert result.exit_code == 1, result.output
+    book = openpyxl.load_workbook(out)
+    listed = [tuple(r) for r in book["Changes"].iter_rows(values_only=True)]
+    assert ("changed", "TT-1203", "T-1203", "Range High", "150", "200") in listed
+    rows = book["Rows"]
+    headers = [c.value for c in rows[1]]
+    assert headers[: len(COLUMNS)] == [c.header for c in COLUMNS]
+    by_tag = {r[0].value: r for r in rows.iter_rows(min_row=2)}
+    col = {h: i for i, h in enumerate(headers)}
+
+    def colour(cell):
+        return cell.fill.fgColor.rgb[-6:] if cell.fill.fill_type == "solid" else None
+
+    high = by_tag["TT-1203"][col["Range High"]]
+    assert high.value == "200" and colour(high) == CHANGED_FILL and high.comment.text == "was: 150"
+    assert colour(by_tag["TT-1203"][col["Range Low"]]) is None  # unchanged cell not highlighted
+    assert colour(by_tag["TV-101B"][col["Air Action"]]) == CHANGED_FILL
+    assert colour(by_tag["PT-1302"][col["Tag"]]) == CHANGED_FILL
+    assert colour(by_tag["LT-1501"][col["Units"]]) == ADDED_FILL
+    assert colour(by_tag["FT-1401"][col["Tag"]]) == REMOVED_FILL
+    assert set(by_tag) == {"TT-1203", "TV-101B", "LV-201A", "LV-201B", "PT-1302", "LT-1501", "FT-1401"}
+
+
+def test_change_report_never_replaces_an_input(issues):
+    result = runner.invoke(app, ["diff", str(issues[0]), str(issues[1]), "--out", str(issues[1])])
+    assert result.exit_code == 2 and "is an input" in result.output

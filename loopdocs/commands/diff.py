@@ -5,7 +5,7 @@ tables that change as a consequence), as a table or as one JSON object."""
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Annotated, Any
+from typing import Annotated, Any, Optional
 
 import typer
 
@@ -15,13 +15,16 @@ from loopdocs.core.errors import InputError
 OldArg = Annotated[Path, typer.Argument(help="The earlier issue: index file (.xlsx, .xlsm, .csv) or project folder holding loopdocs.toml.")]
 NewArg = Annotated[Path, typer.Argument(help="The later issue: index file (.xlsx, .xlsm, .csv) or project folder holding loopdocs.toml.")]
 
+OutOpt = Annotated[Optional[Path], typer.Option(
+    "--out", "-o", help="Also write the change report (.xlsx): the list of changes, and the rows of the tags concerned with the changed cells highlighted.")]
 
-def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text) -> None:
+
+def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text, out: OutOpt = None) -> None:
     """Compare two issues of the index: tags added, removed and renamed, the cells changed on each tag with old and new values, the loops affected, and the split groups and calibration tables that change as a consequence.
 
     A tag counts as renamed when a removed and an added tag have every other cell equal (the row number aside).
 
-    Exit code 0 when the two issues do not differ, 1 when they do, 2 when an input could not be read.
+    Exit code 0 when the two issues do not differ, 1 when they do, 2 when an input could not be read or the report could not be written.
     """
     from loopdocs.calibration.table_changes import changed_tables
     from loopdocs.model.changes import compare_projects
@@ -34,11 +37,38 @@ def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text) -> Non
         fail_input(exc)
     changes = compare_projects(before, after)
     calibration = changed_tables(before, after, {r.old: r.new for r in changes.renamed})
+    if out is not None:
+        try:
+            _write_report(out, changes, calibration, before, after, [old, new])
+        except InputError as exc:
+            fail_input(exc)
     if format is OutputFormat.json:
         emit_json(diff_json(changes, calibration))
     else:
         print_diff(changes, calibration, old, new)
+    if out is not None:
+        typer.echo(f"wrote {out}", err=format is OutputFormat.json)
     raise typer.Exit(1 if changes.any or calibration else 0)
+
+
+def _write_report(out: Path, changes: Any, calibration: list[tuple[str, str]], before: Any, after: Any,
+                  inputs: list[Path]) -> None:
+    """The ``.xlsx`` change report; never over one of the inputs (``InputError`` otherwise)."""
+    from loopdocs.core.files import refuse_overwriting
+    from loopdocs.read.project_file import locate
+    from loopdocs.sheets.change_report import write_change_report
+
+    if Path(out).suffix.lower() != ".xlsx":
+        raise InputError(f"--out {out}: the change report is an .xlsx file; name it so")
+    sources: list[Path] = []
+    for given in inputs:
+        paths = locate(Path(given))
+        sources += [paths.index, *([paths.config_file] if paths.config_file else [])]
+    refuse_overwriting(out, sources)
+    try:
+        write_change_report(out, changes, calibration, before, after)
+    except OSError as exc:
+        raise InputError(f"{out}: cannot be written ({exc.strerror or exc})") from None
 
 
 def diff_json(changes: Any, calibration: list[tuple[str, str]]) -> dict[str, Any]:
