@@ -246,3 +246,18 @@ def test_change_report_highlights_the_changed_cells(issues, tmp_path):
 def test_change_report_never_replaces_an_input(issues):
     result = runner.invoke(app, ["diff", str(issues[0]), str(issues[1]), "--out", str(issues[1])])
     assert result.exit_code == 2 and "is an input" in result.output
+
+
+def test_calibration_limited_to_touched_tags_finds_the_same_tables(issues):
+    # the shortcut (only tags changed and the members of their split groups) against the
+    # comparison of every table of both issues
+    from loopdocs.calibration.table_changes import changed_tables
+    from loopdocs.model.changes import compare_projects
+    from loopdocs.model.loading import load_project
+
+    old, new = load_project(issues[0])[0], load_project(issues[1])[0]
+    changes = compare_projects(old, new)
+    rename = {r.old: r.new for r in changes.renamed}
+    assert "TV-101A" in changes.touched and "TIC-101" in changes.touched  # group of the changed TV-101B
+    assert "PT-1302" in changes.touched and "FT-1401" not in changes.touched
+    assert changed_tables(old, new, rename, changes.touched) == changed_tables(old, new, rename)

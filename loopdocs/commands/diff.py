@@ -36,7 +36,7 @@ def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text, out: O
     except InputError as exc:
         fail_input(exc)
     changes = compare_projects(before, after)
-    calibration = changed_tables(before, after, {r.old: r.new for r in changes.renamed})
+    calibration = changed_tables(before, after, {r.old: r.new for r in changes.renamed}, changes.touched)
     if out is not None:
         try:
             _write_report(out, changes, calibration, before, after, [old, new])

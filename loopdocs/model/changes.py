@@ -89,6 +89,10 @@ class ProjectChanges:
     changed: tuple[TagChange, ...]
     loops: tuple[str, ...]
     splits: tuple[SplitChange, ...] = field(default=())
+    touched: frozenset[str] = frozenset()
+    """Tags (as named in the new issue) whose calibration may change: every added, renamed
+    and changed tag, and every member (controller, converters, elements) of a split group,
+    in either issue, that holds one of them or a removed tag."""
 
     @property
     def any(self) -> bool:
@@ -199,9 +203,26 @@ def compare_projects(old: Project, new: Project) -> ProjectChanges:
         loops.update((r.old_loop, r.new_loop))
     for c in changed:
         loops.update((old.tags[c.tag].loop, new.tags[c.tag].loop))
-    splits = split_changes(old, new, {r.old: r.new for r in renamed})
+    rename = {r.old: r.new for r in renamed}
+    from loopdocs.model.groups import groups_for
+
+    before = groups_for(old)  # old first: groups_for keeps the last project's groups
+    after = groups_for(new)
+    splits = _split_changes(before, after, rename)
+    seeds = {t.tag for t in (*added, *removed)} | {r.new for r in renamed} | {c.tag for c in changed}
+    touched = set(seeds - {t.tag for t in removed})
+    for groups, names in ((before, rename), (after, {})):
+        for group in groups:
+            members = {names.get(m, m) for m in _members(group)}
+            if members & seeds:
+                touched |= members
     return ProjectChanges(tuple(added), tuple(removed), tuple(renamed), tuple(changed),
-                          tuple(sorted(loops, key=natural_key)), tuple(splits))
+                          tuple(sorted(loops, key=natural_key)), tuple(splits), frozenset(touched))
+
+
+def _members(group: Any) -> set[str]:
+    """Every tag a split group's settings and tables rest on."""
+    return {group.controller, *(r.tag for r in group.converters), *(e.tag for e in group.elements)}
 
 
 # --------------------------------------------------------------------------- split groups
@@ -237,12 +258,17 @@ def split_changes(old: Project, new: Project, rename: dict[str, str] | None = No
     """Split-group values that differ, per controller (a renamed controller or element is
     followed to its new name). The groups of ``old`` are built before those of ``new``, so
     ``groups_for`` (which keeps the last project's) still serves ``new`` afterwards."""
-    from loopdocs.model.from_rows import natural_key
     from loopdocs.model.groups import groups_for
 
-    rename = rename or {}
-    before = {rename.get(g.controller, g.controller): g for g in groups_for(old)}
-    after = {g.controller: g for g in groups_for(new)}
+    before = groups_for(old)
+    return _split_changes(before, groups_for(new), rename or {})
+
+
+def _split_changes(before_groups: list[Any], after_groups: list[Any], rename: dict[str, str]) -> list[SplitChange]:
+    from loopdocs.model.from_rows import natural_key
+
+    before = {rename.get(g.controller, g.controller): g for g in before_groups}
+    after = {g.controller: g for g in after_groups}
     out = []
     for controller in sorted(set(before) | set(after), key=natural_key):
         a, b = before.get(controller), after.get(controller)
