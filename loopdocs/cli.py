@@ -45,7 +45,9 @@ def main() -> None:
         sys.argv = [arg for arg in sys.argv if arg != "--debug"]
     try:
         app(standalone_mode=True)
-    except SystemExit:
+    except SystemExit as stop:
+        if sys.argv[1:2] == ["check"]:
+            _leave(stop.code)
         raise
     except KeyboardInterrupt:
         typer.echo("loopdocs: interrupted", err=True)
@@ -58,6 +60,19 @@ def main() -> None:
                    f"{' '.join(str(exc).split())[:200]}); the details are in {log}, please send them with the "
                    "input; run again with --debug to see them", err=True)
         raise SystemExit(EXIT_INTERNAL) from None
+
+
+def _leave(code: object) -> None:
+    """Leave at once once ``check`` has printed everything: flush the output and exit
+    without the interpreter's final teardown, which would collect every record of the
+    project one by one (0.15 s of a 1.2 s check of 3,000 loops, measured). ``check``
+    writes no file, so nothing is left half done."""
+    import os
+    import sys
+
+    sys.stdout.flush()
+    sys.stderr.flush()
+    os._exit(code if isinstance(code, int) else (0 if code is None else 1))
 
 
 def _write_log(exc: BaseException) -> str:

@@ -239,3 +239,18 @@ def test_formula_without_cached_value_is_reported_once_per_column(tmp_path):
     assert len(found) == 1
     assert "6 cells in column " + LETTER["service"] in found[0].message
     assert (found[0].location.row, found[0].location.column) == (4, LETTER["service"])
+
+
+def test_check_leaves_fast_with_its_output_complete(tmp_path):
+    # the console entry leaves check without the interpreter's teardown (cli._leave): the
+    # JSON must still be complete on a pipe and the exit code kept (docs/design.md §9.4)
+    import subprocess
+    import sys
+
+    from loopdocs.sheets.index_template import write_index_workbook
+
+    index = tmp_path / "index.xlsx"
+    write_index_workbook(index, [{"tag": "PT-1", "range_low": 5, "range_high": 5, "units": "barg"}], spare_rows=0)
+    run = subprocess.run([sys.executable, "-m", "loopdocs", "check", str(index), "--format", "json"],
+                         capture_output=True, text=True)
+    assert run.returncode == 1 and json.loads(run.stdout)["summary"]["error"] == 1
