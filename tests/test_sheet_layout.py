@@ -243,3 +243,15 @@ def test_every_table_column_holds_the_longest_word_of_its_head(example_pdfs):
                     assert text_width_mm(word, TABLE_TEXT_MM, bold=True) + CELL_PAD_MM <= width + 0.05, (loop_id, head)
                     checked += 1
     assert checked > 100
+
+
+def test_trip_table_of_interlocks_only_has_no_units_column():
+    # a loop whose only setting is an interlock reference (FV-1201 in the example) gets no
+    # empty Units column (seen on the F-1201 sheet)
+    from loopdocs.model.records import Tag
+    from loopdocs.model.tagname import parse_tag, tag_kind
+    from loopdocs.render.trip_settings import settings_table
+
+    parts = parse_tag("FV-1201")
+    valve = Tag(tag="FV-1201", parts=parts, kind=tag_kind(parts), loop="F-1201", row=2, interlock="CE-012")
+    assert settings_table([valve]).heads == ("Tag", "Interlock")

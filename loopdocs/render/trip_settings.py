@@ -75,7 +75,10 @@ def settings_table(tags: Sequence[Tag]) -> DisplayTable | None:
     rows = [r for r in rows if any(r[h] for h in _SETTINGS)]
     if not rows:
         return None
-    heads = tuple(h for h in _HEADS if h in ("Tag", "Units") or any(r[h] for r in rows))
+    valued = ("Alarm LL", "Alarm L", "Alarm H", "Alarm HH", "Set Point", "Reset", "Dead band")
+    with_values = any(r[h] for r in rows for h in valued)
+    heads = tuple(h for h in _HEADS if h == "Tag" or (h == "Units" and with_values)
+                  or (h != "Units" and any(r[h] for r in rows)))
     return DisplayTable(
         tag=TITLE,
         title="",
