@@ -340,6 +340,18 @@ def _temperature_c(value: float, unit: str) -> float:
 # --------------------------------------------------------------------------- transmitters
 
 
+def _calibrator_conversion(pressure_unit: str, calibrator_unit: str | None) -> Any:
+    """``x -> x`` in the calibrator's pressure unit, or ``None`` when there is nothing to
+    convert (no calibrator unit, the same unit, or either not a pressure)."""
+    if not calibrator_unit or calibrator_unit == pressure_unit:
+        return None
+    from loopdocs.calc.units import convert, is_pressure
+
+    if not (is_pressure(pressure_unit) and is_pressure(calibrator_unit)):
+        return None
+    return lambda x: convert(x, pressure_unit, calibrator_unit)
+
+
 def transmitter_table(
     tag: str,
     lrv: float,
@@ -380,12 +392,7 @@ def transmitter_table(
         out_low, out_high = (0.0, 100.0) if transfer == "sqrt" else (lrv, urv)
     else:
         out_unit, out_low, out_high = output.unit, output.low, output.high
-    convert_to = None
-    if calibrator_unit and calibrator_unit != input_unit:
-        from loopdocs.calc.units import convert, is_pressure
-
-        if is_pressure(input_unit) and is_pressure(calibrator_unit):
-            convert_to = lambda x: convert(x, input_unit, calibrator_unit)  # noqa: E731
+    convert_to = _calibrator_conversion(input_unit, calibrator_unit)
     if transfer == "sqrt":
         from loopdocs.calc.units import is_pressure
 
@@ -513,12 +520,7 @@ def sqrt_flow_table(
         out_unit, out_low, out_high = flow_unit, flow_low, flow_high
     else:
         out_unit, out_low, out_high = output.unit, output.low, output.high
-    convert_to = None
-    if dp is not None and calibrator_unit and calibrator_unit != dp.unit:
-        from loopdocs.calc.units import convert
-
-        if is_pressure(calibrator_unit):
-            convert_to = lambda x: convert(x, dp.unit, calibrator_unit)  # noqa: E731
+    convert_to = _calibrator_conversion(dp.unit, calibrator_unit) if dp is not None else None
     points = []
     for pct, direction in rising_falling(SQRT_FLOW_POINTS_PCT):
         q = pct / 100.0
