@@ -1,4 +1,6 @@
-"""``loopdocs build PATH --out DIR``: the loop sheets and the issue package as PDF."""
+"""``loopdocs build PATH --out DIR [--issue PURPOSE]``: the loop sheets and the issue
+package as PDF; with ``--issue`` the changed loops get their next revision, the transmittal
+list is written and the revision state saved (docs/design.md §12)."""
 
 from __future__ import annotations
 
@@ -13,6 +15,36 @@ from loopdocs.core.errors import InputError
 EXIT_BUILD_FAILED = 3
 
 
+def issue_build(path: Path, out_dir: Path, purpose: str, date: str | None = None, **options):  # noqa: ANN003, ANN201
+    """Build and issue: the sheets with the new revisions, the package, the transmittal list
+    (``OUT/transmittal.xlsx`` and ``.pdf``, when a sheet was issued), then the revision state
+    ``loopdocs-revisions.toml`` in the project folder, written last and atomically, so a
+    build that fails leaves the state as it was. Returns the ``BuildResult``."""
+    from loopdocs.model.revisions import write_state
+    from loopdocs.read.project_file import locate
+    from loopdocs.render.builder import build as run_build
+    from loopdocs.sheets.transmittal import write_transmittal
+
+    result = run_build(path, out_dir, issue=purpose, issue_date=date, **options)
+    if result.issued:
+        folder = locate(Path(path)).folder
+        result.transmittal = write_transmittal(Path(out_dir), result.project, result.settings, result.issued,
+                                               result.state, pdfa=options.get("pdfa", False), project_dir=folder)
+        result.state_file = write_state(folder, result.state)
+    return result
+
+
+def _issue_date(value: Optional[str]) -> Optional[str]:
+    if value is None:
+        return None
+    import datetime
+
+    try:
+        return datetime.date.fromisoformat(value.strip()).isoformat()
+    except ValueError:
+        raise typer.BadParameter(f"{value!r} is not a date like 2026-12-24") from None
+
+
 def build(
     path: PathArg,
     out: Annotated[Path, typer.Option("--out", "-o", help="Output folder (created if missing).")],
@@ -23,6 +55,12 @@ def build(
     pdfa: Annotated[bool, typer.Option(
         "--pdfa", help="Write PDF/A-3b with each loop's records attached to its sheet as JSON.")] = False,
     force: Annotated[bool, typer.Option("--force", help="Render every sheet again, ignoring the cache.")] = False,
+    issue: Annotated[Optional[str], typer.Option(
+        "--issue", help="Issue the sheets for this purpose (for example \"Issued for construction\"): loops changed "
+                        "since their last issue get their next revision; writes the transmittal list and "
+                        "loopdocs-revisions.toml.")] = None,
+    date: Annotated[Optional[str], typer.Option(
+        "--date", help="Date of the issue, YYYY-MM-DD (default: today).", callback=_issue_date)] = None,
 ) -> None:
     """Render one loop sheet per loop and join them into one bookmarked package.
 
@@ -37,7 +75,11 @@ def build(
     console = Console(stderr=True, highlight=False)
     try:
         with _progress(console) as update:
-            result = run_build(path, out, loops=loop or (), workers=workers, pdfa=pdfa, force=force, progress=update)
+            options = dict(loops=loop or (), workers=workers, pdfa=pdfa, force=force, progress=update)
+            if issue is not None:
+                result = issue_build(path, out, issue, date, **options)
+            else:
+                result = run_build(path, out, **options)
     except InputError as exc:
         fail_input(exc)
     except BuildError as exc:
@@ -55,10 +97,25 @@ def build(
         pages = f" ({result.package_pages} pages)" if result.package_pages else " (unchanged)"
         typer.echo(f"package: {result.package}{pages}")
     typer.echo(f"sheets:  {result.out_dir / 'loops'}")
+    if issue is not None:
+        _report_issue(result)
     if blocked:
         typer.echo(f"{blocked} unresolved error finding(s): the sheets concerned are marked NOT FOR CONSTRUCTION "
                    f"(run 'loopdocs check {path}' for the list)")
     raise typer.Exit(1 if result.has_errors else 0)
+
+
+def _report_issue(result) -> None:  # noqa: ANN001
+    """What the issue did: the sheets issued with their revisions, or that nothing changed."""
+    if not result.issued:
+        typer.echo("issue: no loop changed since its last issue; nothing issued, revision state left as it was")
+        return
+    shown = ", ".join(f"{s.loop} {s.previous + ' -> ' if s.previous else ''}{s.revision}" for s in result.issued[:12])
+    more = f" and {len(result.issued) - 12} more" if len(result.issued) > 12 else ""
+    typer.echo(f"issued:  {len(result.issued)} sheet(s): {shown}{more}")
+    for path in result.transmittal:
+        typer.echo(f"transmittal: {path}")
+    typer.echo(f"revision state: {result.state_file}")
 
 
 class _progress:

@@ -159,6 +159,32 @@ def _signature(tag: Tag) -> tuple:
     return tuple(sorted((k, plain(v)) for k, v in cells.items()))
 
 
+def plain_cells(tag: Tag) -> dict[str, str]:
+    """The compared cells of ``tag`` that are not blank, as text (:func:`plain`), by column
+    key (unknown columns as ``extra:<header>``): a snapshot of the row that can be kept as
+    plain text and compared later with :func:`cell_changes`."""
+    cells = {key: plain(value) for key, value in _cells(tag).items()}
+    return {key: text for key, text in cells.items() if text != ""}
+
+
+def cell_changes(old: dict[str, str], new: dict[str, str]) -> tuple[FieldChange, ...]:
+    """The cells that differ between two snapshots of one tag (:func:`plain_cells`), in the
+    order of the Tag record's fields, then unknown columns by header.
+
+    >>> [(c.column, c.old, c.new) for c in cell_changes({"range_high": "150"}, {"range_high": "200"})]
+    [('Range High', '150', '200')]
+    """
+    order = {key: i for i, key in enumerate(_compared_keys())}
+    keys = sorted(set(old) | set(new), key=lambda k: (order.get(k, len(order)), k))
+    out = []
+    for key in keys:
+        a, b = old.get(key, ""), new.get(key, "")
+        if a != b:
+            column = key.partition(":")[2] if key.startswith("extra:") else _header(key)
+            out.append(FieldChange(key, column, a, b))
+    return tuple(out)
+
+
 # --------------------------------------------------------------------------- tags
 
 

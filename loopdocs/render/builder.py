@@ -82,13 +82,33 @@ class BuildResult:
     """Wall time of the whole build."""
     render_seconds: dict[str, float] = field(default_factory=dict)
     """Time each rendered sheet took in its worker (drawing, HTML, PDF, write)."""
+    revisions: dict[str, str] = field(default_factory=dict)
+    """Loop -> the revision its sheet shows ('' when the project has no revision state)."""
+    issued: list[Any] = field(default_factory=list)
+    """With ``issue``: the sheets issued (``loopdocs.model.revisions.IssuedSheet``), in loop order."""
+    state: Any = None
+    """The revision state the sheets show (``loopdocs.model.revisions.RevisionState``; after
+    the issue with ``issue``), ``None`` when the project has none. Saving it is the caller's
+    last step (``loopdocs.commands.build.issue_build``)."""
+    state_file: Path | None = None
+    """The revision state file written (``issue_build`` only)."""
+    transmittal: list[Path] = field(default_factory=list)
+    """The transmittal list of this issue, xlsx and PDF (``issue_build`` only)."""
+    project: Any = None
+    """The project built (``loopdocs.model.records.Project``)."""
+    settings: Any = None
+    """The project's sheet settings."""
 
     @property
     def has_errors(self) -> bool:
         return any(f.counts_as_error for f in self.findings)
 
 
-def frame_record(project: Project, settings: SheetSettings, loop_id: str, sheet_no: int, sheet_count: int, pdfa: bool) -> dict[str, Any]:
+def frame_record(project: Project, settings: SheetSettings, loop_id: str, sheet_no: int, sheet_count: int, pdfa: bool,
+                 revision_changes: Sequence[Any] = ()) -> dict[str, Any]:
+    """What the sheet's frame is made from; ``settings`` are the loop's own (its revision
+    history in ``revisions``), so a sheet whose revision changed is rendered again.
+    ``revision_changes``: the items (tag, column key) changed in the current revision."""
     sheet = settings.model_dump(mode="json", exclude={"release_with_errors"})
     return {
         "title_block": project.config.title_block.model_dump(mode="json"),
@@ -97,7 +117,30 @@ def frame_record(project: Project, settings: SheetSettings, loop_id: str, sheet_
         "sheet_no": sheet_no,
         "sheet_count": sheet_count,
         "pdfa": pdfa,
+        "revision": current_revision(project.config.title_block, settings),
+        "revision_changes": [{"tag": c.tag, "field": c.field} for c in revision_changes],
     }
+
+
+NOT_ISSUED = "-"
+"""Revision shown on the sheet of a loop not yet issued in a project that has a revision state."""
+
+
+def loop_settings(settings: SheetSettings, state: Any, loop_id: str) -> SheetSettings:
+    """The sheet settings of one loop: with a revision state (``loopdocs.model.revisions``),
+    the revision table is the loop's own history (or one row "not issued yet"); without
+    one, the configured table."""
+    from loopdocs.render.settings import Revision
+
+    if state is None:
+        return settings
+    loop = state.loops.get(loop_id)
+    if loop is None:
+        rows = [Revision(rev=NOT_ISSUED, description="Not issued yet")]
+    else:
+        rows = [Revision(rev=h.rev, date=h.date, description=h.description, by=h.by, checked=h.checked,
+                         approved=h.approved) for h in loop.history]
+    return settings.model_copy(update={"revisions": rows})
 
 
 @dataclass(frozen=True)
@@ -108,6 +151,8 @@ class Job:
     path: Path
     key: str
     findings: tuple[Finding, ...]
+    settings: SheetSettings | None = None
+    """The loop's own sheet settings (its revision table), when they differ from the project's."""
 
 
 # --- worker side -----------------------------------------------------------------------
@@ -142,7 +187,7 @@ def render_job(job: Job) -> tuple[str, float]:
     from loopdocs.render.sheet import SheetFrame
 
     started = time.perf_counter()
-    checked, settings = _STATE["checked"], _STATE["settings"]
+    checked, settings = _STATE["checked"], job.settings or _STATE["settings"]
     project: Project = checked.project
     pieces, record = _pieces(job)
     frame = SheetFrame(project.config.title_block, settings, job.sheet_no, job.sheet_count)
@@ -178,13 +223,18 @@ def build(
     pdfa: bool = False,
     force: bool = False,
     progress: Callable[[int, int, str], None] | None = None,
+    issue: str | None = None,
+    issue_date: str | None = None,
 ) -> BuildResult:
     """Build the loop sheets of the project at ``path`` into ``out_dir``.
 
     ``loops`` selects loop ids (case-insensitive; the package is then not rewritten);
     ``force`` ignores the cache; ``progress(done, total, loop_id)`` is called as sheets
-    finish. Raises ``InputError`` for unreadable input or an unknown loop id, and
-    ``BuildError`` when rendering could not complete.
+    finish. ``issue`` (a purpose of issue) gives the loops whose rows changed since their
+    last issue their next revision dated ``issue_date`` (default: today) on their sheets;
+    the state is not saved here (``loopdocs.commands.build.issue_build`` saves it once
+    everything is written). Raises ``InputError`` for
+    unreadable input or an unknown loop id, and ``BuildError`` when rendering could not complete.
     """
     from loopdocs.read.project_file import locate
     from loopdocs.draw.symbols import symbols_dir
@@ -199,6 +249,8 @@ def build(
     project = checked.project
     settings = sheet_settings(project.config.sheet, paths.config_file)
     result = BuildResult(out_dir=out_dir, findings=list(checked.findings))
+    state, new_state = _revision_state(project, paths, loops, issue, issue_date, result)
+    result.state, result.project, result.settings = new_state, project, settings
 
     all_loops = list(project.loops)
     if loops:
@@ -233,7 +285,10 @@ def build(
     for number, loop_id in enumerate(all_loops, start=1):
         found = findings_by_loop[loop_id]
         record = loop_record(project, loop_id, found, splits_by_loop.get(loop_id, ()), links)
-        key = loop_key(environment, record, frame_record(project, settings, loop_id, number, count, pdfa))
+        own = loop_settings(settings, new_state, loop_id)
+        changes = new_state.loops[loop_id].changed if new_state is not None and loop_id in new_state.loops else ()
+        result.revisions[loop_id] = current_revision(project.config.title_block, own) if new_state is not None else ""
+        key = loop_key(environment, record, frame_record(project, own, loop_id, number, count, pdfa, changes))
         keys[loop_id] = key
         target = loops_dir / f"{names[loop_id]}.pdf"
         result.loop_files[loop_id] = target
@@ -242,7 +297,7 @@ def build(
         if not force and manifest.fresh(loop_id, key) and manifest.entries[loop_id].file == str(target.relative_to(out_dir)):
             result.reused.append(loop_id)
         else:
-            jobs.append(Job(loop_id, number, count, target, key, tuple(found)))
+            jobs.append(Job(loop_id, number, count, target, key, tuple(found), own if own is not settings else None))
 
     if not loops:  # sheets of loops that left the index
         for gone in sorted(set(manifest.entries) - set(all_loops)):
@@ -258,10 +313,35 @@ def build(
         manifest.save()
 
     if not loops:
-        _package(project, settings, checked.findings, findings_by_loop, all_loops, keys, result, manifest, pdfa, paths.folder)
+        _package(project, settings, checked.findings, findings_by_loop, all_loops, keys, result, manifest, pdfa,
+                 paths.folder, new_state)
         manifest.save()
     result.seconds = time.perf_counter() - started
     return result
+
+
+def _revision_state(project: Project, paths: Any, loops: Sequence[str], issue: str | None, issue_date: str | None,
+                    result: BuildResult) -> tuple[Any, Any]:
+    """The revision state as read from the project folder and as this build shows it
+    (after the issue, when ``issue`` is given; ``result.issued`` lists what it issues)."""
+    from loopdocs.model.revisions import issue as issue_state, read_state, revision_scheme, RevisionState
+
+    state = read_state(paths.folder)
+    if issue is None:
+        return state, state
+    if loops:
+        raise InputError("--issue issues the whole project: leave out --loop")
+    scheme = revision_scheme(project.config.revisions, paths.config_file)
+    date = issue_date or _today()
+    new_state, issued = issue_state(state or RevisionState(), project, issue, date, scheme)
+    result.issued = issued
+    return state, new_state
+
+
+def _today() -> str:
+    import datetime
+
+    return datetime.date.today().isoformat()
 
 
 def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool,
@@ -338,21 +418,26 @@ def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, res
 
 def _package(project: Project, settings: SheetSettings, findings: Sequence[Finding],
              findings_by_loop: dict[str, list[Finding]], all_loops: list[str], keys: dict[str, str],
-             result: BuildResult, manifest: Manifest, pdfa: bool, project_dir: Path) -> None:
-    """Front matter (cached by content) and the joined package (rejoined when any part changed)."""
-    from loopdocs.render.package import LIST_ROWS_PER_PART, ListRow, front_html, write_package
+             result: BuildResult, manifest: Manifest, pdfa: bool, project_dir: Path, state: Any = None) -> None:
+    """Front matter (cached by content) and the joined package (rejoined when any part changed).
+    With a revision state each sheet's line in the drawing list carries its own revision,
+    and the cover lists the issues recorded in the state."""
+    from loopdocs.render.package import LIST_ROWS_PER_PART, ListRow, front_html, issue_rows, write_package
 
     tb = project.config.title_block
     revision = current_revision(tb, settings)
+    issues = issue_rows(state) if state is not None else None
     rows = []
     for number, loop_id in enumerate(all_loops, start=1):
         blocked = has_blocking_error(findings_by_loop[loop_id])
         released = blocked and settings.release_reason(loop_id) is not None
         rows.append(ListRow(number, drawing_number(tb.drawing_number, loop_id), loop_id,
-                            project.loops[loop_id].service or "", revision, blocked and not released, released))
+                            project.loops[loop_id].service or "", result.revisions.get(loop_id) or revision,
+                            blocked and not released, released))
     counts = FindingCounts.of(findings)
     front_key = digest_json({
         "rows": [vars(r) for r in rows], "counts": counts.as_json(), "pdfa": pdfa,
+        "issues": [r.model_dump(mode="json") for r in issues] if issues is not None else None,
         "title_block": tb.model_dump(mode="json"), "sheet": settings.model_dump(mode="json"),
         "environment": environment_digest(TEMPLATES_DIR, None, SOURCE_DIR),
     })
@@ -366,7 +451,7 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
         from loopdocs.render.pdf import html_to_pdf
 
         html = front_html(tb, settings, rows, open_errors=counts.error, open_warnings=counts.warning,
-                          accepted=counts.accepted, first=first, count=LIST_ROWS_PER_PART)
+                          accepted=counts.accepted, first=first, count=LIST_ROWS_PER_PART, issues=issues)
         pdf = html_to_pdf(html, allowed_dirs=[project_dir], pdfa=pdfa)
         atomic_write(path, lambda tmp: (tmp.write_bytes(pdf), shareable(tmp)))
         manifest.record_artefact(f"front-{part}", key, path)
@@ -383,7 +468,8 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
     sheets = [(result.loop_files[l], _bookmark(l, project.loops[l].service)) for l in all_loops]
     fragments = result.out_dir / CACHE_DIR_NAME / FRAGMENTS_DIR
     result.package_pages = write_package(package_path, front_paths, sheets, title_block=tb, settings=settings,
-                                         pdfa=pdfa, fragment_dir=fragments)
+                                         pdfa=pdfa, fragment_dir=fragments,
+                                         revision=issues[-1].rev if issues else None)
     _prune_fragments(fragments, [*front_paths, *(p for p, _ in sheets)])
     manifest.record_artefact("package", package_key, package_path)
 

@@ -16,7 +16,7 @@ from loopdocs import __version__
 from loopdocs.core.files import atomic_write
 from loopdocs.core.wording import CAUTION
 from loopdocs.read.project_file import TitleBlock
-from loopdocs.render.settings import SheetSettings
+from loopdocs.render.settings import Revision, SheetSettings
 from loopdocs.render.sheet import current_revision, document_author, environment, page_css, revisions
 
 
@@ -47,6 +47,19 @@ def document_keywords(title_block: TitleBlock) -> list[str]:
     return words + [w for w in (title_block.client, title_block.unit) if w]
 
 
+def issue_rows(state) -> list[Revision]:  # noqa: ANN001
+    """The cover's revision table from a revision state (``loopdocs.model.revisions``): one
+    row per issue (same date and purpose), the revisions it issued and how many sheets.
+
+    An issue of loops at different revisions shows them all ("B, 0").
+    """
+    from loopdocs.model.revisions import issue_summaries
+
+    return [Revision(rev=", ".join(i.revisions), date=i.date,
+                     description=f"{i.purpose} ({i.sheets} sheet{'s' if i.sheets != 1 else ''})")
+            for i in issue_summaries(state)]
+
+
 LIST_ROWS_PER_PART = 250
 """Drawing-list rows laid out per document: a list of thousands of rows is rendered in
 parts (the first with the cover sheet), so that memory does not grow with the number of
@@ -55,12 +68,15 @@ loops."""
 
 def front_html(title_block: TitleBlock, settings: SheetSettings, rows: Sequence[ListRow], *,
                open_errors: int = 0, open_warnings: int = 0, accepted: int = 0,
-               first: int = 0, count: int | None = None) -> str:
+               first: int = 0, count: int | None = None, issues: Sequence[Revision] | None = None) -> str:
     """Cover sheet and drawing list of the package (pure). ``first`` and ``count`` select
-    the part of the list to lay out; the cover sheet comes with the part that starts at 0."""
+    the part of the list to lay out; the cover sheet comes with the part that starts at 0.
+    ``issues`` (:func:`issue_rows`, when the project has a revision state) replace the
+    configured revision table on the cover; each row of the list has its sheet's revision."""
     from markupsafe import Markup
 
-    revision = current_revision(title_block, settings)
+    table = list(issues) if issues else revisions(title_block, settings)
+    revision = table[-1].rev
     context = {
         "paper": settings.paper,
         "page_css": Markup(page_css(settings)),
@@ -70,7 +86,8 @@ def front_html(title_block: TitleBlock, settings: SheetSettings, rows: Sequence[
         "subject": document_subject(title_block, revision, len(rows)),
         "keywords": ", ".join(document_keywords(title_block)),
         "revision": revision,
-        "revisions": revisions(title_block, settings),
+        "revisions": table,
+        "issued": bool(issues),
         "rows": rows[first:None if count is None else first + count],
         "cover": first == 0,
         "continued": first > 0,
@@ -117,14 +134,14 @@ def cached_fragment(pdf: Path, fragment_dir: Path | None):
 
 def write_package(path: Path, front_pdfs: Sequence[Path], sheets: Sequence[tuple[Path, str]], *,
                   title_block: TitleBlock, settings: SheetSettings, pdfa: bool = False,
-                  fragment_dir: Path | None = None) -> int:
+                  fragment_dir: Path | None = None, revision: str | None = None) -> int:
     """Join the front matter (its parts in order) and the sheets (``(pdf path, bookmark
     title)`` in loop order) into ``path``; returns the page count. With ``fragment_dir`` each source is parsed
     once and kept there as a fragment for the next join."""
     from loopdocs.core.files import shareable
     from loopdocs.render.pdfjoin import DocumentInfo, PdfJoin
 
-    revision = current_revision(title_block, settings)
+    revision = revision or current_revision(title_block, settings)
     info = DocumentInfo(
         title=document_title(title_block),
         author=document_author(title_block, settings),
