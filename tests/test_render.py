@@ -361,7 +361,8 @@ def test_spreadsheet_markup_is_escaped_in_the_html_and_plain_in_the_pdf(hostile)
     assert "<script>" not in html and "<b>bold</b>" not in html and "<img src=x" not in html
     assert "&lt;script&gt;" in html and "&lt;i&gt;Hostile&lt;/i&gt; &amp; co" in html
     text = pdf_text(html_to_pdf(html, allowed_dirs=[folder]))
-    assert '<script>alert("x")</script>' in text
+    # the diagram wraps the service to its column (a word too long is cut between characters)
+    assert '<script>alert("x")</script>' in "".join(text.split())
     assert "<b>bold</b>" in text and "<i>Hostile</i> & co" in text
     assert "D-../../etc/passwd" in text
 

@@ -24,10 +24,10 @@ from loopdocs.model.vocab import Location, Platform, Transfer
 
 # --------------------------------------------------------------------------- sizes, mm
 
-TEXT_MM = 2.5
+TEXT_MM = 3.43
 """Font size of every label (the bubble text areas of the symbol library are drawn for it)."""
 TITLE_MM = 3.5
-LINE_PITCH_MM = 3.3
+LINE_PITCH_MM = 4.4
 """Baseline to baseline of wrapped lines."""
 ENCLOSURE_PAD_MM = 2.0
 SERVICE_WRAP_MM = 36.0
@@ -175,7 +175,7 @@ def service_lines(tag: Tag, loop_service: str | None) -> list[str]:
     (the sheet's title gives that), except for final elements, which it tells apart."""
     if not tag.service or (tag.service == loop_service and tag.kind is not TagKind.FINAL_ELEMENT):
         return []
-    return wrap_text(tag.service, SERVICE_WRAP_MM, TEXT_MM, max_lines=4, balanced=True)
+    return wrap_text(tag.service, SERVICE_WRAP_MM, TEXT_MM, max_lines=6, balanced=True)
 
 
 def wrapped(lines: Iterable[str | None], width_mm: float = SERVICE_WRAP_MM) -> list[str]:

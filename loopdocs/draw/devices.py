@@ -67,7 +67,7 @@ from loopdocs.draw.clusters import (
 )
 from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, Drawing, PlacedSymbol, PlacedText, Point, SignalLine
 from loopdocs.draw.symbols import BUILDING_BLOCK_PORTS, Symbol, load_symbol, stack
-from loopdocs.draw.text import ASCENT_EM
+from loopdocs.draw.text import ASCENT_EM, wrap_text
 from loopdocs.model.records import Tag
 from loopdocs.model.vocab import Accessory, Actuator, DeviceType, Sensor, Signal, SplitMethod, ValveBody
 
@@ -79,6 +79,10 @@ ELEMENT_DROP_MM = 2.5
 """Gap between a primary element's bubble and its sensing part below it."""
 SUPPLY_DROP_MM = 3.0
 """Length of each run of the instrument air supply line below a valve's first accessory."""
+ROW_LINE_CLEAR_MM = LINE_HALF_WIDTH_MM["pneumatic"] + 0.4
+"""Space kept above the row line (y = 0) by a text beside a valve's bubble."""
+AIR_TEXT_WRAP_MM = 26.0
+"""Width at which the air supply text under its line wraps (``IA ring main`` / ``brewhouse``)."""
 SUPPLY_JOG_MM = 1.5
 """Drop of the air supply line before it steps right, clear of the valve's pipe."""
 COIL_DROP_MM = 2.0
@@ -684,9 +688,10 @@ def _supply_line(drawing: Drawing, tag: Tag, entry_port: Point, horizontal_first
         end = (x, max(y + 2 * SUPPLY_DROP_MM, min_end_y))
         drawing.lines.append(SignalLine("pneumatic", tuple(points + [end]), "air-supply"))
     gap = LINE_HALF_WIDTH_MM["pneumatic"] + 0.4
-    text = label(air_supply_text(tag), end[0] - 1.0, end[1] + gap + ASCENT_EM * TEXT_MM, "start", "air-supply")
-    drawing.texts.append(text)
-    return text.box.bottom, x
+    texts = stack_lines(wrap_text(air_supply_text(tag), AIR_TEXT_WRAP_MM, TEXT_MM, balanced=True),
+                        end[0] - 1.0, end[1] + gap, "start", "air-supply")
+    drawing.texts.extend(texts)
+    return texts[-1].box.bottom, x
 
 
 def _yoke_devices(drawing: Drawing, valve: PlacedSymbol, tag: Tag, kinds: list[AccessoryKind],
@@ -735,6 +740,14 @@ def valve_text_lines(tag: Tag) -> list[str]:
     if tag.valve_size:
         lines.append(f"{tag.valve_size}, Cv {fmt_number(tag.cv)}" if tag.cv is not None else tag.valve_size)
     return wrapped([*lines, area_text(tag), interlock_text(tag)])
+
+
+def _free_in(drawing: Drawing, texts: list[PlacedText], clearance_mm: float = 0.2) -> bool:
+    """No text of ``texts`` comes within ``clearance_mm`` of a symbol, text or line of ``drawing``."""
+    boxes = [s.box for s in drawing.symbols] + [t.box for t in drawing.texts]
+    for line in drawing.lines:
+        boxes += line.segment_boxes()
+    return not any(t.box.grown(clearance_mm).overlaps(b) for t in texts for b in boxes)
 
 
 def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = None,
@@ -850,15 +863,32 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
         clear_x = max(p[0] for p in pipe_points) + LINE_HALF_WIDTH_MM["pneumatic"] + 1.0
         supply_bottom, supply_x = _supply_line(drawing, tag, entry_port, across, regulator, clear_x,
                                                max(p[1] for p in pipe_points) + 0.5)
-        y = max(y, supply_bottom + 0.8)
-    # size and Cv, area, interlock: under the fail position, below the air supply when drawn
+    else:
+        supply_bottom = y
+    # the service beside the bubble, right of it, where nothing else is drawn (the
+    # valve is as tall as its symbols); else under the valve data
+    service = service_lines(tag, loop_service)
+    beside = stack_lines(service, placed_bubble.box.right + 1.0, placed_bubble.box.y, "start", "service")
+    # (above the row line, which leaves the cluster at y = 0 to the right)
+    if service and _free_in(drawing, beside) and max(t.box.bottom for t in beside) <= -ROW_LINE_CLEAR_MM:
+        drawing.texts += beside
+        service = []
+    # size and Cv, area, interlock: under the fail position (below the air supply when
+    # they would run into it)
     extra = valve_text_lines(tag)
     if extra:
-        drawing.texts += stack_lines(extra, stem_x, y, "middle", "valve-data")
+        lines = stack_lines(extra, stem_x, y, "middle", "valve-data")
+        if not _free_in(drawing, lines):
+            y = max(y, supply_bottom + 0.8)
+            lines = stack_lines(extra, stem_x, y, "middle", "valve-data")
+        drawing.texts += lines
         y += LINE_PITCH_MM * len(extra)
-    service = service_lines(tag, loop_service)
     if service:
-        drawing.texts += stack_lines(service, stem_x, y + 0.5, "middle", "service")
+        lines = stack_lines(service, stem_x, y + 0.5, "middle", "service")
+        if not _free_in(drawing, lines):
+            y = max(y, supply_bottom + 0.8)
+            lines = stack_lines(service, stem_x, y + 0.5, "middle", "service")
+        drawing.texts += lines
     setting = _split_setting_text(tag)
     if setting:
         first = placed_accessories[0] if placed_accessories else None

@@ -202,8 +202,20 @@ class SignalLine:
     role: str = ""
 
     def segment_boxes(self) -> list[Rect]:
+        """A box along each segment, ``LINE_HALF_WIDTH_MM`` to either side of it (the
+        stroke and the marks across it); a horizontal or vertical segment's box ends where
+        the segment ends (butt caps, the SVG default), so a line ending at a symbol's edge
+        does not reach inside it."""
         half = LINE_HALF_WIDTH_MM.get(self.kind, 0.4)
-        return [Rect.around([a, b], half) for a, b in zip(self.points, self.points[1:])]
+        boxes = []
+        for a, b in zip(self.points, self.points[1:]):
+            if abs(a[1] - b[1]) < 1e-9 and abs(a[0] - b[0]) > 1e-9:
+                boxes.append(Rect(min(a[0], b[0]), a[1] - half, abs(b[0] - a[0]), 2 * half))
+            elif abs(a[0] - b[0]) < 1e-9 and abs(a[1] - b[1]) > 1e-9:
+                boxes.append(Rect(a[0] - half, min(a[1], b[1]), 2 * half, abs(b[1] - a[1])))
+            else:
+                boxes.append(Rect.around([a, b], half))
+        return boxes
 
     def moved(self, dx: float, dy: float) -> "SignalLine":
         return SignalLine(self.kind, tuple((x + dx, y + dy) for x, y in self.points), self.role)

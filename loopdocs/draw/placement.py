@@ -29,6 +29,7 @@ from loopdocs.draw.annotations import (
 )
 from loopdocs.draw.clusters import (
     ENCLOSURE_PAD_MM,
+    LINE_PITCH_MM,
     Cluster,
     TEXT_MM,
     TITLE_MM,
@@ -75,6 +76,9 @@ COLUMN_GAP_MM = 6.0
 LABEL_MARGIN_MM = 1.5
 CONNECTOR_INSET_MM = 3.5
 """Distance of a merge connector or pneumatic header from the item it joins."""
+BOUNDARY_INSET_MM = 2 * CONNECTOR_INSET_MM + 0.5
+"""Largest distance of a band boundary from the first column of its band (clear of a
+merge connector, ``CONNECTOR_INSET_MM`` before that column)."""
 
 
 @dataclass(frozen=True)
@@ -197,7 +201,9 @@ def _place_columns(used: list[str], left_ext: dict[str, float], right_ext: dict[
         ref[c] = x + left_ext[c]
         right[c] = ref[c] + right_ext[c]
         x = right[c]
-    boundaries = [(BAND_OF_COLUMN[b], (right[a] + left[b]) / 2)
+    # a band boundary keeps BOUNDARY_INSET_MM from the column it opens, so that a gap
+    # widened for line labels leaves them one run left of it (not two halves)
+    boundaries = [(BAND_OF_COLUMN[b], max((right[a] + left[b]) / 2, left[b] - BOUNDARY_INSET_MM))
                   for a, b in zip(used, used[1:]) if BAND_OF_COLUMN[a] != BAND_OF_COLUMN[b]]
     return _Columns(used, left, ref, right, boundaries, x + MARGIN_MM)
 
@@ -263,6 +269,40 @@ def _free_intervals(x0: float, x1: float, cuts: Iterable[float], margin: float) 
     return [s for s in spans if s[1] > s[0]]
 
 
+def two_lines(text: str) -> list[str]:
+    """``text`` broken in two at the space that leaves the narrower of the two lines, never
+    inside brackets nor between a number and its unit (one line when there is no such space).
+
+    >>> two_lines("C-3105-1 (1+ 2- S)"), two_lines("4-20 mA HART"), two_lines("3-15 psig")
+    (['C-3105-1', '(1+ 2- S)'], ['4-20 mA', 'HART'], ['3-15 psig'])
+    """
+    words = text.split()
+    breaks, depth = [], 0
+    for i, word in enumerate(words[:-1], start=1):
+        depth += word.count("(") - word.count(")")
+        nxt = words[i]
+        if depth == 0 and (nxt.startswith("(") or not word[-1].isdigit()):
+            breaks.append(i)
+    if not breaks:
+        return [text]
+    splits = [(" ".join(words[:i]), " ".join(words[i:])) for i in breaks]
+    return list(min(splits, key=lambda pair: max(text_width_mm(pair[0], TEXT_MM), text_width_mm(pair[1], TEXT_MM))))
+
+
+def label_lines(seg: Segment) -> tuple[list[str], list[str]]:
+    """The lines of a segment's label above and below its line (two each when wrapped)."""
+    def lines(text: str | None) -> list[str]:
+        if not text:
+            return []
+        return two_lines(text) if seg.wrap else [text]
+    return lines(seg.above), lines(seg.below)
+
+
+def _label_width(seg: Segment) -> float:
+    above, below = label_lines(seg)
+    return max((text_width_mm(t, TEXT_MM) for t in above + below), default=0.0)
+
+
 def _place_labels(rows: list[Row], cols: _Columns, fn_row: int | None) -> dict[str, float]:
     """Put each segment's labels in the widest free stretch of its run; return how much
     to widen the gap before which column where they do not fit."""
@@ -274,26 +314,36 @@ def _place_labels(rows: list[Row], cols: _Columns, fn_row: int | None) -> dict[s
             if not (seg.above or seg.below):
                 continue
             a = row.stations[k]
-            near = LINE_HALF_WIDTH_MM.get(seg.kind, 0.4) + 0.4 + label_height() + 1.0
-            # inside a junction box or cabinet the outline (at the column's edge) is the limit
-            xa = cols.right[a.column] if a.enclosure else cols.ref[a.column] + a.drawn.reach_near_line(near)[1]
-            if k + 1 < len(row.stations):
-                b = row.stations[k + 1]
-                xb = cols.left[b.column] if b.enclosure else cols.ref[b.column] + b.drawn.reach_near_line(near)[0]
-                column = b.column
-            else:
-                end = _tail_end(index, rows, cols, fn_row)
-                if end is None:
-                    continue
-                xb = end
-                column = row.merge[1] if row.merge else cols.used[-1]
-            need = max(text_width_mm(seg.above or "", TEXT_MM), text_width_mm(seg.below or "", TEXT_MM))
+            b = row.stations[k + 1] if k + 1 < len(row.stations) else None
+            end = _tail_end(index, rows, cols, fn_row) if b is None else None
+            if b is None and end is None:
+                continue
+            column = b.column if b is not None else (row.merge[1] if row.merge else cols.used[-1])
             # keep clear of a connector of this row's kind too (a pneumatic line is 3.2 mm wide)
             margin = max(LABEL_MARGIN_MM, LINE_HALF_WIDTH_MM.get(seg.kind, 0.4) + 0.5)
-            spans = _free_intervals(xa, xb, [c for c in cuts + bounds if xa < c < xb], margin)
+
+            def free_spans(lines: int) -> list[tuple[float, float]]:
+                near = LINE_HALF_WIDTH_MM.get(seg.kind, 0.4) + 0.4 + label_height() + (lines - 1) * LINE_PITCH_MM + 1.0
+                # inside a junction box or cabinet the outline (at the column's edge) is the limit
+                xa = cols.right[a.column] if a.enclosure else cols.ref[a.column] + a.drawn.reach_near_line(near)[1]
+                if b is not None:
+                    xb = cols.left[b.column] if b.enclosure else cols.ref[b.column] + b.drawn.reach_near_line(near)[0]
+                else:
+                    xb = end
+                return _free_intervals(xa, xb, [c for c in cuts + bounds if xa < c < xb], margin)
+
+            # on one line where it fits, else on two lines (cable / cores, 4-20 mA / HART)
+            # before the gap is widened for it
+            seg.wrap = False
+            spans = free_spans(1)
             best = max((s[1] - s[0] for s in spans), default=0.0)
+            if best + 1e-6 < _label_width(seg) and any(len(two_lines(t)) > 1 for t in (seg.above, seg.below) if t):
+                seg.wrap = True
+                spans = free_spans(2)
+                best = max((s[1] - s[0] for s in spans), default=0.0)
+            need = _label_width(seg)
             if best + 1e-6 < need:
-                widen[column] = max(widen.get(column, 0.0), 2 * (need - best) + 1.0)
+                widen[column] = max(widen.get(column, 0.0), need - best + 1.0)
                 seg.label_x = None
             else:
                 lo, hi = max(spans, key=lambda s: (round(s[1] - s[0], 6), -s[0]))
@@ -312,25 +362,9 @@ def place(layout: Drawing, rows: list[Row], parts: LoopParts, fn_row: int | None
     left_ext = {c: max(-b.x for b in boxes[c]) for c in used}
     right_ext = {c: max(b.right for b in boxes[c]) for c in used}
 
-    # Vertical: each row as tall as its stations and its line labels need.
-    label_h = label_height()
-    y = MARGIN_MM + HEADER_MM
-    for row in rows:
-        row_boxes = [s.drawn.box for s in row.stations]
-        half = max(LINE_HALF_WIDTH_MM.get(k, 0.4) for k in [s.kind for s in row.segments] + [row.tail_kind])
-        top = max([-b.y for b in row_boxes] + [3.0])
-        bottom = max([b.bottom for b in row_boxes] + [3.0])
-        if any(s.above for s in row.segments):
-            top = max(top, max(half + 0.4 + label_h + s.offset_mm for s in row.segments if s.above))
-        if any(s.below for s in row.segments):
-            bottom = max(bottom, max(half + 0.4 + label_h + s.offset_mm for s in row.segments if s.below))
-        row.top_mm, row.bottom_mm = top, bottom
-        row.y = y + top
-        y = row.y + bottom + ROW_GAP_MM
-    height = y - ROW_GAP_MM + MARGIN_MM
-
-    # Horizontal: base gaps, widened until every line label fits its run. A gap holding a
-    # merge connector and a band boundary is wide enough to keep the two apart.
+    # Horizontal first (it does not depend on the rows' heights): base gaps, widened until
+    # every line label fits its run. A gap holding a merge connector and a band boundary is
+    # wide enough to keep the two apart.
     gaps = {c: COLUMN_GAP_MM for c in used[1:]}
     for row in rows:
         if row.merge is not None:
@@ -348,6 +382,27 @@ def place(layout: Drawing, rows: list[Row], parts: LoopParts, fn_row: int | None
         for column, extra in sorted(widen.items()):
             gaps[column] = gaps.get(column, 0.0) + extra
         cols = _place_columns(used, left_ext, right_ext, gaps)
+
+    # Vertical: each row as tall as its stations and its line labels (as placed) need.
+    label_h = label_height()
+    y = MARGIN_MM + HEADER_MM
+    for row in rows:
+        row_boxes = [s.drawn.box for s in row.stations]
+        half = max(LINE_HALF_WIDTH_MM.get(k, 0.4) for k in [s.kind for s in row.segments] + [row.tail_kind])
+        top = max([-b.y for b in row_boxes] + [3.0])
+        bottom = max([b.bottom for b in row_boxes] + [3.0])
+        for seg in row.segments:
+            if seg.label_x is None:
+                continue
+            above, below = label_lines(seg)
+            if above:
+                top = max(top, half + 0.4 + label_h + (len(above) - 1) * LINE_PITCH_MM + seg.offset_mm)
+            if below:
+                bottom = max(bottom, half + 0.4 + label_h + (len(below) - 1) * LINE_PITCH_MM + seg.offset_mm)
+        row.top_mm, row.bottom_mm = top, bottom
+        row.y = y + top
+        y = row.y + bottom + ROW_GAP_MM
+    height = y - ROW_GAP_MM + MARGIN_MM
 
     layout.width_mm = round(cols.width, 3)
     layout.height_mm = round(height, 3)
@@ -404,10 +459,13 @@ def _labels(layout: Drawing, seg: Segment, y: float) -> None:
     if seg.label_x is None:
         return
     half = LINE_HALF_WIDTH_MM.get(seg.kind, 0.4) + seg.offset_mm
-    if seg.above:
-        layout.texts.append(label(seg.above, seg.label_x, y - half - 0.4 - DESCENT_EM * TEXT_MM, "middle", "cable"))
-    if seg.below:
-        layout.texts.append(label(seg.below, seg.label_x, y + half + 0.4 + ASCENT_EM * TEXT_MM, "middle", "signal"))
+    above, below = label_lines(seg)
+    for i, text in enumerate(reversed(above)):
+        layout.texts.append(label(text, seg.label_x, y - half - 0.4 - DESCENT_EM * TEXT_MM - i * LINE_PITCH_MM,
+                                  "middle", "cable"))
+    for i, text in enumerate(below):
+        layout.texts.append(label(text, seg.label_x, y + half + 0.4 + ASCENT_EM * TEXT_MM + i * LINE_PITCH_MM,
+                                  "middle", "signal"))
 
 
 def _series_ends(rows: list[Row], root: int, cols: _Columns) -> tuple[list[tuple[float, Station]], float, int]:

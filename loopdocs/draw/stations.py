@@ -214,6 +214,8 @@ class Segment:
     label_x: float | None = None
     offset_mm: float = 0.0
     """Drawn as two wires this far above and below the row line (a series loop): labels keep clear."""
+    wrap: bool = False
+    """The labels are set on two lines each (``placement.label_lines``), where one line does not fit."""
 
 
 @dataclass
