@@ -254,3 +254,20 @@ def test_check_leaves_fast_with_its_output_complete(tmp_path):
     run = subprocess.run([sys.executable, "-m", "loopdocs", "check", str(index), "--format", "json"],
                          capture_output=True, text=True)
     assert run.returncode == 1 and json.loads(run.stdout)["summary"]["error"] == 1
+
+
+def test_starter_config_documents_the_revision_sequence_defaults():
+    # The commented [revisions] block of the starter loopdocs.toml, uncommented, must give
+    # the defaults loopdocs uses (letters before construction, numbers from the first issue
+    # for construction: common practice), so the starter never documents a stale default.
+    import re
+    import tomllib
+
+    from loopdocs.model.revisions import RevisionScheme
+    from loopdocs.sheets.index_template import STARTER_CONFIG
+
+    block = STARTER_CONFIG[STARTER_CONFIG.index("# [revisions]"):].split("\n\n")[0]
+    uncommented = "\n".join(re.sub(r"^# ", "", line) for line in block.splitlines())
+    documented = RevisionScheme(**tomllib.loads(uncommented)["revisions"])
+    assert documented == RevisionScheme()
+    assert (documented.before_construction, documented.for_construction) == ("A", "0")

@@ -41,7 +41,9 @@ size = "A3"                    # paper, landscape: "A3" (default), "A4" or "11x1
 # author = "A. Engineer"       # PDF author; default: drawn above
 # notes = ["All cable numbers to the cable schedule."]   # printed on every loop sheet
 #
-# Revision table of every sheet, oldest first (default: one row from [title_block]):
+# Revision table of every sheet, oldest first (default: one row from [title_block]); once
+# the package is issued with `loopdocs build --issue`, each sheet shows its own loop's
+# revisions from loopdocs-revisions.toml instead:
 # [[sheet.revisions]]
 # rev = "A"
 # date = "2026-12-01"
@@ -54,6 +56,14 @@ size = "A3"                    # paper, landscape: "A3" (default), "A4" or "11x1
 # anyway, name the loop and give the reason; the reason is printed on the sheet:
 # [sheet.release_with_errors]
 # "T-101" = "gap is the intended dead band, see memo M-12"
+
+# Revision sequence of `loopdocs build --issue` (these are the defaults): letters until the
+# first issue whose purpose names construction, then numbers.
+# [revisions]
+# before_construction = "A"        # first revision before construction: A, B, C...
+# for_construction = "0"           # first revision issued for construction: 0, 1, 2...
+# construction_words = ["construction"]
+# changes_listed = 3               # change lines per revision entry, then "and N more"
 
 # Findings accepted on purpose by engineering review stay on the sheet as accepted
 # deviations but do not fail the check:
