@@ -8,7 +8,10 @@ CO and travel columns, positioner input ranges and wiring; some indicating only.
 About 2 % of the valves carry a deliberate mistake so that checks have work to do.
 The same ``n_loops`` and ``seed`` always give the same file contents.
 
-Run: ``python benchmarks/make_index.py OUT.xlsx N_LOOPS``.
+``write_index_variant`` writes the same plant in a second layout (columns shuffled, alias
+headers, numbers stored as text) so that the benchmark also times the slower paths.
+
+Run: ``python benchmarks/make_index.py OUT.xlsx N_LOOPS [SEED] [variant]``.
 """
 
 from __future__ import annotations
@@ -255,7 +258,59 @@ def write_index(path: Path, n_loops: int, seed: int = 0) -> Path:
     return path
 
 
+def _as_text(value: Any) -> Any:
+    """A number as a spreadsheet user types it into a text cell (``12`` -> ``"12"``)."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return value
+    return f"{value:g}"
+
+
+def variant_layout(seed: int) -> tuple[list[int], list[str]]:
+    """The column order (indexes into ``HEADERS``) and header texts of the second layout:
+    columns shuffled, and each column headed by one of its aliases where it has any."""
+    rng = random.Random(10_000 + seed)
+    order = list(range(len(COLUMNS)))
+    rng.shuffle(order)
+    headers = [rng.choice(COLUMNS[i].aliases) if COLUMNS[i].aliases else COLUMNS[i].header for i in order]
+    return order, headers
+
+
+def write_index_variant(path: Path, n_loops: int, seed: int = 0) -> Path:
+    """The same plant as ``write_index`` in a second layout, as projects write their own
+    indexes: the columns shuffled, alias headers (``LRV``, ``Tag No``, ...), every number
+    stored as text, a two-row title block, and the header at row 3 of a sheet named
+    ``Instruments``. Same ``n_loops`` and ``seed``, same file contents."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    order, headers = variant_layout(seed)
+    rows: list[list[Any]] = [
+        [f"Kettle Creek Brewery - instruments ({n_loops} loops, seed {seed}, second layout)"],
+        [],
+        headers,
+    ]
+    for row in generate_rows(n_loops, seed):
+        rows.append([_as_text(row[i]) for i in order])
+    if path.suffix.lower() == ".csv":
+        with path.open("w", newline="", encoding="utf-8") as handle:
+            writer = csv.writer(handle)
+            for row in rows:
+                writer.writerow(["" if v is None else v for v in row])
+        return path
+    from openpyxl import Workbook
+
+    book = Workbook(write_only=True)
+    sheet = book.create_sheet("Instruments")
+    for row in rows:
+        sheet.append(row)
+    book.save(path)
+    return path
+
+
 if __name__ == "__main__":
     out, loops = Path(sys.argv[1]), int(sys.argv[2])
-    write_index(out, loops, int(sys.argv[3]) if len(sys.argv) > 3 else 0)
+    seed = int(sys.argv[3]) if len(sys.argv) > 3 else 0
+    if len(sys.argv) > 4 and sys.argv[4] == "variant":
+        write_index_variant(out, loops, seed)
+    else:
+        write_index(out, loops, seed)
     print(out)

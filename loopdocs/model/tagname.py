@@ -88,7 +88,7 @@ _KIND_BY_LETTER: tuple[tuple[str, TagKind], ...] = (
 )
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, slots=True)
 class TagParts:
     area: str
     variable: str
@@ -175,6 +175,9 @@ def parse_tag(tag: str, pattern: re.Pattern[str] | None = None) -> TagParts:
     )
 
 
+_SWITCH_LETTERS = re.compile(r"S[HLOC]*")
+
+
 def tag_kind(parts: TagParts) -> TagKind:
     """What the tag is, from its succeeding letters (see ``_KIND_BY_LETTER``). A switch
     followed only by its modifiers (H high, L low; O open and C closed on a position
@@ -184,7 +187,7 @@ def tag_kind(parts: TagParts) -> TagKind:
     >>> tag_kind(parse_tag("ZSC-101")), tag_kind(parse_tag("PSHH-2")), tag_kind(parse_tag("TIC-3"))
     (<TagKind.SWITCH: 'switch'>, <TagKind.SWITCH: 'switch'>, <TagKind.CONTROLLER: 'controller'>)
     """
-    if re.fullmatch(r"S[HLOC]*", parts.functions):
+    if _SWITCH_LETTERS.fullmatch(parts.functions):
         return TagKind.SWITCH
     for letter, kind in _KIND_BY_LETTER:
         if letter in parts.functions:

@@ -7,7 +7,7 @@ values, column A first); each reader passes its own cell converter.
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any, Callable, Sequence
+from typing import Any, Callable, Iterable, Sequence
 
 from loopdocs.core.errors import InputError
 from loopdocs.read.columns import BY_KEY, header_lookup, normalise_header
@@ -107,10 +107,15 @@ def layout(
     return columns, extra
 
 
-def _present(cells: Sequence[Any], wanted: tuple[tuple[str, int], ...], convert: Callable[[Any], CellValue]) -> dict[str, CellValue]:
+def _present(
+    cells: Sequence[Any], wanted: tuple[tuple[str, int], ...], convert: Callable[[Any], CellValue],
+    texts: dict[str, str],
+) -> dict[str, CellValue]:
     """Key -> value for the non-blank cells among ``wanted`` (blank cells are left out, so
     ``values.get(key)`` is ``None`` for them). Most index cells are blank: skipping them
-    early is most of the reader's speed on a large index."""
+    early is most of the reader's speed on a large index. A text met before is replaced by
+    the one kept in ``texts``: an index repeats the same units, signals, cabinets and
+    P&IDs on thousands of rows, and one copy of each halves the memory the rows take."""
     width = len(cells)
     present: dict[str, CellValue] = {}
     for key, index in wanted:
@@ -119,33 +124,43 @@ def _present(cells: Sequence[Any], wanted: tuple[tuple[str, int], ...], convert:
             if raw is not None and raw != "":
                 value = convert(raw)
                 if value is not None:
-                    present[key] = value
+                    present[key] = texts.setdefault(value, value) if type(value) is str else value
     return present
 
 
 def build_table(
     path: Path,
     sheet: str,
-    grid: Sequence[Sequence[Any]],
+    grid: Iterable[Sequence[Any]],
     header_index: int,
     lookup: dict[str, str],
     convert: Callable[[Any], CellValue],
     notices: list[ReadNotice] | None = None,
+    header: Sequence[Any] | None = None,
 ) -> IndexTable:
     """The table below ``grid[header_index]``; blank data rows (every read cell blank) skipped.
 
-    Grid row ``i`` is spreadsheet row ``i + 1``.
+    Grid row ``i`` is spreadsheet row ``i + 1``. With ``header`` (the cells of the header
+    row) ``grid`` is the rows below the header only, any iterable, read once: a reader can
+    hand its rows over one at a time.
     """
     where = f"{path}, sheet {sheet!r}"
-    columns, extra = layout(grid[header_index], lookup, where, header_index + 1)
+    if header is None:
+        rows_below: Iterable[Sequence[Any]] = grid[header_index + 1 :]  # type: ignore[index]
+        header = grid[header_index]  # type: ignore[index]
+    else:
+        rows_below = grid
+    columns, extra = layout(header, lookup, where, header_index + 1)
     known = tuple(columns.items())
     unknown = tuple(extra.items())
     rows: list[IndexRow] = []
-    for offset, cells in enumerate(grid[header_index + 1 :]):
-        values = _present(cells, known, convert)
-        more = _present(cells, unknown, convert)
+    first_row = header_index + 2
+    texts: dict[str, str] = {}
+    for offset, cells in enumerate(rows_below):
+        values = _present(cells, known, convert, texts)
+        more = _present(cells, unknown, convert, texts) if unknown else {}
         if values or more:
-            rows.append(IndexRow(header_index + offset + 2, values, more))
+            rows.append(IndexRow(first_row + offset, values, more))
     return IndexTable(
         path=path,
         sheet=sheet,

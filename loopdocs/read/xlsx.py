@@ -15,7 +15,7 @@ import posixpath
 import re
 import zipfile
 from pathlib import Path
-from typing import Any
+from typing import Any, Iterator
 
 from loopdocs.core.errors import InputError
 from loopdocs.core.findings import Location
@@ -188,8 +188,7 @@ def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] |
                 if header_index is None:
                     seen.append((name, headers_seen(top)))
                     continue
-                grid = calamine_sheet.to_python(skip_empty_area=False)
-                fill_merged(grid, calamine_sheet.merged_cell_ranges or (), header_index)
+                merged = calamine_sheet.merged_cell_ranges or ()
                 break
             else:
                 raise no_header_error(path, seen)
@@ -204,12 +203,66 @@ def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] |
     except (OSError, ValueError, RuntimeError) as exc:
         raise InputError(f"{path}: cannot read the workbook ({_one_line(exc)})") from None
 
-    table = build_table(path, name, grid, header_index, lookup, cell_value)
+    # Row by row: the sheet is never held twice (once by calamine, once as Python lists),
+    # the peak memory of a large index (docs/performance.md).
+    rows = data_rows(calamine_sheet, header_index, merged)
+    table = build_table(path, name, rows, header_index, lookup, cell_value, header=top[header_index])
+    cells = (calamine_sheet.height or 0) * (calamine_sheet.width or 0)
+    del calamine_sheet, rows
+    if cells > TRIM_AFTER_CELLS:
+        return_freed_memory()
     letters = set(table.columns.values()) | set(table.extra_columns.values())
     table.notices.extend(
         notice for notice in formula_notices(path, name) if notice.location.row > table.header_row and notice.location.column in letters
     )
     return table
+
+
+#: Cells in a sheet past which the memory calamine held is handed back to the system
+#: once the sheet is read (about 50 MB at 30,000 loops; docs/performance.md).
+TRIM_AFTER_CELLS = 2_000_000
+
+
+def return_freed_memory() -> None:
+    """Ask the C library to hand memory it holds free back to the system (glibc's
+    ``malloc_trim``): what the workbook parse freed otherwise stays in the process for
+    the rest of the command. Does nothing where there is no such call."""
+    try:
+        import ctypes
+
+        ctypes.CDLL("libc.so.6").malloc_trim(0)
+    except (OSError, AttributeError):
+        pass
+
+
+def data_rows(sheet: Any, header_index: int, merged: Any) -> Iterator[list[Any]]:
+    """The rows below the header (0-based ``header_index``) of a calamine sheet, one list
+    at a time, cells from column A, merged ranges filled as :func:`fill_merged` does.
+
+    Calamine's row iterator starts at the first row of the sheet but at the first column
+    of its used range: rows are padded on the left so that index 0 is column A.
+    """
+    first_column = (sheet.start or (0, 0))[1]
+    pad = [""] * first_column
+    starting: dict[int, list[tuple[int, int]]] = {}
+    for (row0, col0), (row1, _col1) in merged:
+        if row0 > header_index:
+            starting.setdefault(row0, []).append((col0, row1))
+    filling: list[tuple[int, int, Any]] = []  # (column, last row, value)
+    for index, cells in enumerate(sheet.iter_rows()):
+        if index <= header_index:
+            continue
+        if first_column:
+            cells = pad + cells
+        if filling:
+            filling = [fill for fill in filling if fill[1] >= index]
+            for column, _last, value in filling:
+                if column < len(cells):
+                    cells[column] = value
+        if index in starting:
+            for column, last in starting[index]:
+                filling.append((column, last, cells[column] if column < len(cells) else ""))
+        yield cells
 
 
 def fill_merged(grid: list[list[Any]], ranges: Any, header_index: int) -> None:
@@ -244,27 +297,59 @@ _STR_TYPE = re.compile(rb"""\bt\s*=\s*["']str["']""")
 _ROOT_PREFIX = re.compile(rb"<(\w+:)?worksheet\b")
 
 
+#: Bytes of sheet XML unpacked at a time by :func:`formula_notices`.
+SCAN_BLOCK_BYTES = 1 << 20
+
+
 def formula_notices(path: Path, sheet: str) -> list[ReadNotice]:
     """Notices for formula cells with no cached value and for error cells of ``sheet``.
 
-    Scans the sheet XML with byte searches (no XML parse); returns [] when the sheet has
+    Scans the sheet XML with byte searches (no XML parse), a block of whole rows at a
+    time so that the sheet's XML is never held whole; returns [] when the sheet has
     neither, or when its part cannot be found (calamine has read it already).
     """
+    found: list[tuple[tuple[bytes, bytes], str]] = []
     try:
         with zipfile.ZipFile(path) as archive:
             part = _sheet_part(archive, sheet)
             if part is None:
                 return []
-            data = archive.read(part)
+            with archive.open(part) as stream:
+                for piece, prefix in _row_blocks(stream):
+                    found.extend(_formulas_without_value(piece, prefix))
+                    found.extend(_error_cells(piece, prefix))
     except (OSError, KeyError, zipfile.BadZipFile, ValueError):
         return []
-    root = _ROOT_PREFIX.search(data, 0, 4096)
-    prefix = (root.group(1) or b"") if root else b""
-    notices: list[ReadNotice] = []
-    for ref, message in (*_formulas_without_value(data, prefix), *_error_cells(data, prefix)):
-        notices.append(ReadNotice(Location(sheet, int(ref[1]), ref[0].decode()), message))
+    notices = [ReadNotice(Location(sheet, int(ref[1]), ref[0].decode()), message) for ref, message in found]
     notices.sort(key=lambda n: (n.location.row, len(n.location.column), n.location.column))
     return notices
+
+
+def _row_blocks(stream: Any) -> Iterator[tuple[bytes, bytes]]:
+    """``(block, prefix)``: the sheet XML cut after a row end (``</row>``), so that no
+    cell is split between blocks, about ``SCAN_BLOCK_BYTES`` at a time; ``prefix`` is the
+    namespace prefix of the root element (``x:`` in ``<x:worksheet>``), often empty."""
+    carry = b""
+    prefix: bytes | None = None
+    row_end = b""
+    while True:
+        block = stream.read(SCAN_BLOCK_BYTES)
+        data = carry + block if carry else block
+        if prefix is None:
+            root = _ROOT_PREFIX.search(data, 0, 4096)
+            prefix = (root.group(1) or b"") if root else b""
+            row_end = b"</" + prefix + b"row>"
+        if not block:
+            if data:
+                yield data, prefix
+            return
+        cut = data.rfind(row_end)
+        if cut < 0:
+            carry = data
+            continue
+        cut += len(row_end)
+        yield data[:cut], prefix
+        carry = data[cut:]
 
 
 def _cell_bounds(data: bytes, inside: int, prefix: bytes) -> tuple[int, int, int] | None:
