@@ -65,7 +65,7 @@ from loopdocs.draw.clusters import (
     stack_lines,
     wrapped,
 )
-from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, Drawing, PlacedSymbol, PlacedText, Point, SignalLine
+from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, Drawing, PlacedSymbol, PlacedText, Point, Rect, SignalLine
 from loopdocs.draw.symbols import BUILDING_BLOCK_PORTS, Symbol, load_symbol, stack
 from loopdocs.draw.text import ASCENT_EM, wrap_text
 from loopdocs.model.records import Tag
@@ -742,12 +742,15 @@ def valve_text_lines(tag: Tag) -> list[str]:
     return wrapped([*lines, area_text(tag), interlock_text(tag)])
 
 
-def _free_in(drawing: Drawing, texts: list[PlacedText], clearance_mm: float = 0.2) -> bool:
-    """No text of ``texts`` comes within ``clearance_mm`` of a symbol, text or line of ``drawing``."""
+def _free_in(drawing: Drawing, texts: list[PlacedText], side_mm: float = 1.0, above_mm: float = 0.2) -> bool:
+    """No text of ``texts`` comes within ``side_mm`` (left and right) or ``above_mm`` (above
+    and below) of a symbol, text or line of ``drawing``."""
     boxes = [s.box for s in drawing.symbols] + [t.box for t in drawing.texts]
     for line in drawing.lines:
         boxes += line.segment_boxes()
-    return not any(t.box.grown(clearance_mm).overlaps(b) for t in texts for b in boxes)
+    grown = [Rect(t.box.x - side_mm, t.box.y - above_mm, t.box.width + 2 * side_mm, t.box.height + 2 * above_mm)
+             for t in texts]
+    return not any(g.overlaps(b) for g in grown for b in boxes)
 
 
 def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = None,
@@ -877,8 +880,10 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
     # they would run into it)
     extra = valve_text_lines(tag)
     if extra:
-        lines = stack_lines(extra, stem_x, y, "middle", "valve-data")
-        if not _free_in(drawing, lines):
+        # centred under the stem, or up to 3 mm to the left, clear of the air supply text
+        lines = next((t for t in (stack_lines(extra, stem_x - dx, y, "middle", "valve-data") for dx in range(4))
+                      if _free_in(drawing, t)), None)
+        if lines is None:
             y = max(y, supply_bottom + 0.8)
             lines = stack_lines(extra, stem_x, y, "middle", "valve-data")
         drawing.texts += lines

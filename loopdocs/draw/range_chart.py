@@ -39,14 +39,22 @@ from loopdocs.draw.geometry import (
     Rect,
 )
 from loopdocs.core.findings import Finding, Severity
-from loopdocs.draw.text import ASCENT_EM, DESCENT_EM, text_width_mm
+from loopdocs.draw.text import ASCENT_EM, CAP_HEIGHT_EM, DESCENT_EM, text_width_mm, wrap_text
 from loopdocs.core.formatting import fmt_pct, fmt_signal
 from loopdocs.model.groups import SplitElement, SplitGroup
 
 CHART_WIDTH_MM = 160.0
 CHART_HEIGHT_MM = 95.0
-TEXT_MM = 2.5
+TEXT_MM = 3.43
+"""Font size of the chart's labels: 2.5 mm capitals (DejaVu Sans capitals are 0.729 em),
+the lettering of the loop diagram beside it (docs/design.md §8.4)."""
 TITLE_MM = 3.5
+CO_TITLE_MM = 2.0 + TEXT_MM + 0.8
+"""Top of the CO axis title below the plot (under the CO tick labels)."""
+SIGNAL_AXIS_MM = CO_TITLE_MM + TEXT_MM + 2.5
+"""The shared signal's axis below the plot (under the CO axis title)."""
+AXIS_TITLE_MM = 1.5 + 2.0 + TEXT_MM + 2.6
+"""Top of the shared signal's title below its axis (under its tick labels)."""
 
 PLOT_LEFT_MM = 20.0
 PLOT_RIGHT_MM = 142.0
@@ -313,12 +321,14 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     group's tags, error or warning, are marked). Sizes in mm, natural size
     ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM`` (taller only when findings need a list below)."""
     shared = group.method in ("positioner", "pneumatic") and bool(group.elements)
-    bottom_space = 7.8 + (14.6 if shared else 0.0) + 2.5
+    # under the plot: CO ticks and title; the shared signal's axis, ticks and title
+    bottom_space = (SIGNAL_AXIS_MM + AXIS_TITLE_MM if shared else CO_TITLE_MM) + TEXT_MM + 2.5
     subtitle = _subtitle(group)
-    plot_top = PLOT_TOP_MM + (0.0 if subtitle is None else 3.3)
+    width = max(CHART_WIDTH_MM, round(text_width_mm(_title(group), TITLE_MM, bold=True) + 1.5, 1))
+    subtitles = wrap_text(subtitle, width - 1.0, TEXT_MM) if subtitle else []
+    plot_top = PLOT_TOP_MM + LINE_MM * len(subtitles)
     plot_rect = Rect(PLOT_LEFT_MM, plot_top, PLOT_RIGHT_MM - PLOT_LEFT_MM, CHART_HEIGHT_MM - bottom_space - plot_top)
     # as wide as its title when the title is longer (3.5 mm bold on one line)
-    width = max(CHART_WIDTH_MM, round(text_width_mm(_title(group), TITLE_MM, bold=True) + 1.5, 1))
     chart = RangeChart(controller=group.controller, loop_id=group.loop,
                        width_mm=width, height_mm=CHART_HEIGHT_MM, plot=plot_rect)
     chart.title = f"Range chart {group.controller}"
@@ -332,8 +342,8 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
         return text
 
     put(_txt(_title(group), 0.5, 1.0 + ASCENT_EM * TITLE_MM, "start", "title", TITLE_MM, bold=True))
-    if subtitle:
-        put(_txt(subtitle, 0.5, 6.3 + ASCENT_EM * TEXT_MM, "start", "subtitle"))
+    for i, line in enumerate(subtitles):
+        put(_txt(line, 0.5, 6.3 + i * LINE_MM + ASCENT_EM * TEXT_MM, "start", "subtitle"))
 
     # shading first (painted under everything): gaps, overlaps of staged neighbours
     bands: list[tuple[float, float, str, str]] = []  # (co from, co to, kind, label)
@@ -366,8 +376,8 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     for t in (0, 25, 50, 75, 100):
         y = chart.y_of(t)
         chart.paths.append(Path(((plot.x - 1.2, y), (plot.x, y)), THIN_MM, role="tick"))
-        put(_txt(str(t), plot.x - 1.8, y + 0.9, "end", "tick-travel"))
-    put(_txt("Travel, %", 4.5, plot.y + plot.height / 2, "middle", "axis-title", rotate=-90.0))
+        put(_txt(str(t), plot.x - 1.8, y + CAP_HEIGHT_EM * TEXT_MM / 2, "end", "tick-travel"))
+    put(_txt("Travel, %", 1.0 + ASCENT_EM * TEXT_MM, plot.y + plot.height / 2, "middle", "axis-title", rotate=-90.0))
 
     # CO axis
     for co in range(0, 101, 10):
@@ -376,7 +386,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
                                 role="tick"))
         if co % 20 == 0:
             put(_txt(str(co), x, plot.bottom + 2.0 + ASCENT_EM * TEXT_MM, "middle", "tick-co"))
-    put(_txt("Controller output (CO), %", plot.x + plot.width / 2, plot.bottom + 5.3 + ASCENT_EM * TEXT_MM,
+    put(_txt("Controller output (CO), %", plot.x + plot.width / 2, plot.bottom + CO_TITLE_MM + ASCENT_EM * TEXT_MM,
              "middle", "axis-title"))
 
     boundaries = sorted({round(v, 6) for e in group.elements if e.intent is not None  # an invalid element has none
@@ -386,7 +396,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     if shared:
         span = group.elements[0].span
         chart.signal_axis = (span.unit, span.low, span.high)
-        axis_y = plot.bottom + 10.3
+        axis_y = plot.bottom + SIGNAL_AXIS_MM
         chart.paths.append(Path(((plot.x, axis_y), (plot.right, axis_y)), MEDIUM_MM, role="signal-axis"))
         for co in boundaries:
             x = chart.x_of(co)
@@ -402,7 +412,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
                 chart.paths.append(Path(((x, axis_y), (x, axis_y + 1.5)), THIN_MM, role="tick"))
                 put(label)
         put(_txt(f"Shared output signal, {span.unit} (bold: at the boundaries)", plot.x + plot.width / 2,
-                 axis_y + 2.0 + 2 * LINE_MM + ASCENT_EM * TEXT_MM, "middle", "axis-title"))
+                 axis_y + AXIS_TITLE_MM + ASCENT_EM * TEXT_MM, "middle", "axis-title"))
 
     # element boundaries: thin dashed verticals, CO values above the plot in one row;
     # values that would collide are spread apart, each with a leader to its line
@@ -433,11 +443,12 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
         while k * step <= axis_max + 1e-9:
             y = plot.bottom - plot.height * (k * step) / axis_max
             chart.paths.append(Path(((plot.right, y), (plot.right + 1.2, y)), THIN_MM, role="tick"))
-            label = _txt(f"{k * step:g}", plot.right + 1.8, y + 0.9, "start", "tick-cv")
+            label = _txt(f"{k * step:g}", plot.right + 1.8, y + CAP_HEIGHT_EM * TEXT_MM / 2, "start", "tick-cv")
             if placer.free(label.box):
                 put(label)
             k += 1
-        put(_txt("Total Cv", CHART_WIDTH_MM - 3.0, plot.y + plot.height / 2, "middle", "axis-title", rotate=90.0))
+        put(_txt("Total Cv", width - 1.0 - ASCENT_EM * TEXT_MM, plot.y + plot.height / 2, "middle", "axis-title",
+                 rotate=90.0))
         cv_points_mm = _simplify([(chart.x_of(co), plot.bottom - plot.height * cv / axis_max) for co, cv in curve])
         chart.paths.append(Path(tuple(cv_points_mm), MEDIUM_MM, dash_mm=(0.6, 0.9), role="capacity"))
 
@@ -534,7 +545,8 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     return chart
 
 
-LINE_MM = 3.3
+LINE_MM = 1.25 * TEXT_MM
+"""Baseline to baseline of stacked labels."""
 LEADER_MM = 2.0
 """Room between a spread label row and the line or axis its leaders run to."""
 

@@ -15,6 +15,7 @@ table's notes in full.
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
@@ -132,8 +133,59 @@ def display_table(view: TableView) -> DisplayTable:
 
 def display_tables(tables: Sequence[CalibrationTable]) -> list[DisplayTable]:
     """The printed tables of one loop in the order given (loop checks of one split group
-    side by side, ``presentation.present_tables``)."""
-    return [display_table(view) for view in present_tables(tables)]
+    side by side, ``presentation.present_tables``); the fail-action tests of the loop's
+    valves in one table, a row per valve (:func:`merge_fail_actions`)."""
+    views = present_tables(tables)
+    printed = [display_table(view) for view in views]
+    return merge_fail_actions(printed, [view.kind == FAIL_ACTION for view in views])
+
+
+FAIL_ACTION = "fail action"
+SET_SIGNAL = re.compile(r"^set the signal to [^(]+\(")
+SET_SIGNAL_ROWS = "set the signal to the Apply value of its row ("
+"""How the merged fail-action table words its instruction: each row has its own signal."""
+
+
+def merge_fail_actions(tables: Sequence[DisplayTable], fail_action: Sequence[bool]) -> list[DisplayTable]:
+    """The fail-action tables (``fail_action[i]``) that share their heads and tolerance as
+    one table at the place of the first: a ``Tag`` column, a row per valve, each note once
+    (the instruction ``set the signal to 3.5 psig (...), then remove the air ...`` worded
+    for every row: ``set the signal to the Apply value of its row (...)``). One fail-action
+    test per valve, as in the workbook: only the printing is shared. Tables whose
+    instruction is worded otherwise are left as they are.
+
+    >>> a = DisplayTable("PV-1A", "fail action", ("Apply psig",), (("3.5",),), "±1 %",
+    ...                  ("set the signal to 3.5 psig (valve travel 50 %), then remove the air", "FC: closed"))
+    >>> b = replace(a, tag="PV-1B", rows=(("5.5",),), notes=("set the signal to 5.5 psig (valve travel 50 %), then remove the air", "FC: closed"))
+    >>> (m,) = merge_fail_actions([a, b], [True, True])
+    >>> m.tag, m.heads, m.rows, m.notes, m.text_columns
+    ('PV-1A, PV-1B', ('Tag', 'Apply psig'), (('PV-1A', '3.5'), ('PV-1B', '5.5')), ('set the signal to the Apply value of its row (valve travel 50 %), then remove the air', 'FC: closed'), (0,))
+    """
+    groups: dict[tuple, list[int]] = {}
+    for i, (table, merge) in enumerate(zip(tables, fail_action)):
+        if merge and table.notes and SET_SIGNAL.match(table.notes[0]):
+            groups.setdefault((table.heads, table.tolerance, table.tolerance_basis), []).append(i)
+    merged: dict[int, DisplayTable] = {}
+    dropped: set[int] = set()
+    for members in groups.values():
+        if len(members) < 2:
+            continue
+        parts = [tables[i] for i in members]
+        notes: list[str] = []
+        emphasis: list[str] = []
+        for table in parts:
+            for k, (note, e) in enumerate(zip(table.notes, table.note_emphasis or ("",) * len(table.notes))):
+                text = SET_SIGNAL.sub(SET_SIGNAL_ROWS, note) if k == 0 else note
+                if text not in notes:
+                    notes.append(text)
+                    emphasis.append(e)
+        first = parts[0]
+        merged[members[0]] = replace(
+            first, tag=", ".join(t.tag for t in parts), heads=("Tag", *first.heads),
+            rows=tuple((t.tag, *row) for t in parts for row in t.rows),
+            text_columns=(0, *(c + 1 for c in first.text_columns)), notes=tuple(notes), note_emphasis=tuple(emphasis))
+        dropped |= set(members[1:])
+    return [merged.get(i, table) for i, table in enumerate(tables) if i not in dropped]
 
 
 def share_notes(tables: Sequence[DisplayTable], first_number: int) -> tuple[list[DisplayTable], list[str]]:
