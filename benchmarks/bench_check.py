@@ -1,34 +1,47 @@
-"""Speed of ``loopdocs check`` against a plain openpyxl read of the same workbook.
+"""Speed and memory of ``loopdocs check`` against plain reads of the same workbook.
 
-Generates a 3000-loop index (about 10,000 rows) into ``benchmarks/out/`` if it is not
-there, then times, as whole subprocesses (interpreter start included), alternating:
+For each generator (``make_index.write_index``: the default headers in template order;
+``make_index.write_index_variant``: columns shuffled, alias headers, numbers stored as
+text) a generated index of N loops is written once into ``benchmarks/out/``, then these
+are timed as whole subprocesses (interpreter start included), in alternation so that a
+change of load on a shared machine hits all alike:
 
-(a) ``loopdocs check FILE --format json`` (the real console script), when it runs and
-    prints its JSON report (until then it is left out, and said so);
-(a') ``python -c "read_index(FILE)"``: reading alone;
-(b) ``python -c`` that opens the file with openpyxl ``load_workbook(read_only=True,
-    data_only=True)`` and iterates the values of every row.
+- ``check``: the real console script, ``loopdocs check FILE --format json``;
+- ``floor``: ``python -c`` reading the sheet with python-calamine into Python lists
+  (what any reader of the file must at least do);
+- ``openpyxl``: ``python -c`` reading every row's values with openpyxl
+  (``load_workbook(read_only=True, data_only=True)``), the yardstick of issue 14.
 
-Prints the median of each and the ratios (a)/(b) and (a')/(b); the target for (a)/(b)
-is 0.5 or less.
-Run: ``make bench`` or ``.venv/bin/python benchmarks/bench_check.py [--loops N] [--repeat K]``.
+Each run's wall time and peak resident memory (``ru_maxrss`` of the waited-for child) are
+kept; the medians are printed with the ratio check/openpyxl (target at most 0.25) and,
+with ``--memory``, the peak memory of check at 30,000 loops (target at most 450 MB).
+
+Run: ``make bench`` or ``.venv/bin/python benchmarks/bench_check.py [--loops N] [--repeat K]
+[--generator default variant] [--memory]``.
 """
 
 from __future__ import annotations
 
 import argparse
-import json
 import os
 import statistics
 import subprocess
 import sys
+import tempfile
 import time
+from dataclasses import dataclass, field
 from pathlib import Path
 
 HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
 OUT = HERE / "out"
-TARGET_RATIO = 0.5
+TARGET_RATIO = 0.25
+MEMORY_LOOPS = 30_000
+TARGET_MEMORY_MB = 450.0
+
+VENV_BIN = ROOT / ".venv" / "bin"
+PYTHON = str(VENV_BIN / "python") if (VENV_BIN / "python").exists() else sys.executable
+"""The project's venv interpreter for the timed subprocesses (it has loopdocs installed)."""
 
 OPENPYXL_READ = """
 import sys
@@ -42,31 +55,29 @@ book.close()
 print(cells)
 """
 
-READ_ONLY = """
+CALAMINE_READ = """
 import sys
-from pathlib import Path
-from loopdocs.read import read_index
-table = read_index(Path(sys.argv[1]))
-print(len(table.rows))
+from python_calamine import CalamineWorkbook
+book = CalamineWorkbook.from_path(sys.argv[1])
+rows = book.get_sheet_by_index(0).to_python()
+print(sum(len(row) for row in rows))
 """
 
+GENERATORS = ("default", "variant")
 
-def index_file(n_loops: int, seed: int = 0) -> Path:
+
+def index_file(n_loops: int, generator: str = "default", seed: int = 0) -> Path:
     """The generated index for ``n_loops`` loops, written once and reused."""
-    path = OUT / f"index_{n_loops}_seed{seed}.xlsx"
+    sys.path.insert(0, str(HERE))
+    from make_index import write_index, write_index_variant
+
+    name = f"index_{n_loops}_seed{seed}.xlsx" if generator == "default" else f"index_{n_loops}_seed{seed}_{generator}.xlsx"
+    path = OUT / name
     if not path.exists():
-        sys.path.insert(0, str(HERE))
-        from make_index import write_index
-
         started = time.perf_counter()
-        write_index(path, n_loops, seed)
-        print(f"wrote {path.relative_to(ROOT)} in {time.perf_counter() - started:.1f} s")
+        (write_index if generator == "default" else write_index_variant)(path, n_loops, seed)
+        print(f"wrote {path.relative_to(ROOT)} in {time.perf_counter() - started:.1f} s", flush=True)
     return path
-
-
-VENV_BIN = ROOT / ".venv" / "bin"
-PYTHON = str(VENV_BIN / "python") if (VENV_BIN / "python").exists() else sys.executable
-"""The project's venv interpreter for the timed subprocesses (it has loopdocs installed)."""
 
 
 def console_script() -> Path:
@@ -75,69 +86,103 @@ def console_script() -> Path:
     return script if script.exists() else Path(sys.executable).parent / "loopdocs"
 
 
-def check_command(path: Path) -> list[str] | None:
-    """The real ``loopdocs check`` command if it runs and prints the JSON report, else None."""
-    script = console_script()
-    command = [str(script), "check", str(path), "--format", "json"]
-    if not script.exists():
-        print(f"note: {script} not found; timing reading alone instead")
+@dataclass
+class Run:
+    """One timed subprocess: wall seconds and peak resident memory, MB."""
+
+    seconds: float
+    peak_mb: float
+
+
+def run_once(command: list[str]) -> Run:
+    """Run ``command`` (output to a temporary file) and measure it from the outside:
+    wall time, and the child's own ``ru_maxrss`` (kB on Linux) from ``os.wait4``."""
+    with tempfile.TemporaryFile() as out, tempfile.TemporaryFile() as err:
+        started = time.perf_counter()
+        child = subprocess.Popen(command, stdout=out, stderr=err, cwd=ROOT)
+        _, status, usage = os.wait4(child.pid, 0)
+        elapsed = time.perf_counter() - started
+        child.returncode = code = os.waitstatus_to_exitcode(status)
+        if code not in (0, 1):
+            err.seek(0)
+            raise SystemExit(f"command failed (exit {code}): {' '.join(command[:3])} ...\n{err.read().decode()[-2000:]}")
+    return Run(elapsed, usage.ru_maxrss / 1024)
+
+
+@dataclass
+class Measured:
+    """The runs of each command on one index, and their medians."""
+
+    path: Path
+    runs: dict[str, list[Run]] = field(default_factory=dict)
+
+    def seconds(self, name: str) -> float:
+        return statistics.median(r.seconds for r in self.runs[name])
+
+    def peak_mb(self, name: str) -> float:
+        return statistics.median(r.peak_mb for r in self.runs[name])
+
+
+def commands(path: Path) -> dict[str, list[str]]:
+    return {
+        "check": [str(console_script()), "check", str(path), "--format", "json"],
+        "floor": [PYTHON, "-c", CALAMINE_READ, str(path)],
+        "openpyxl": [PYTHON, "-c", OPENPYXL_READ, str(path)],
+    }
+
+
+def measure(path: Path, repeat: int, names: tuple[str, ...] = ("check", "floor", "openpyxl")) -> Measured:
+    """``repeat`` alternating runs of each command after one warm-up run each (page cache,
+    bytecode cache)."""
+    chosen = {name: command for name, command in commands(path).items() if name in names}
+    for command in chosen.values():
+        run_once(command)
+    measured = Measured(path, {name: [] for name in chosen})
+    for _ in range(repeat):
+        for name, command in chosen.items():
+            measured.runs[name].append(run_once(command))
+    return measured
+
+
+def report(measured: Measured, label: str) -> float | None:
+    """Print the medians of one index; the ratio check/openpyxl (None without openpyxl)."""
+    print(f"{label}: {measured.path.relative_to(ROOT)}")
+    for name, runs in measured.runs.items():
+        times = ", ".join(f"{r.seconds:.3f}" for r in runs)
+        print(f"  {name:>8}: median {measured.seconds(name):.3f} s, peak {measured.peak_mb(name):.0f} MB  [{times}]")
+    if "openpyxl" not in measured.runs:
         return None
-    run = subprocess.run(command, capture_output=True, text=True, cwd=ROOT)
-    try:
-        report = json.loads(run.stdout)
-    except ValueError:
-        report = None
-    if run.returncode in (0, 1) and isinstance(report, dict) and "findings" in report:
-        print(f"loopdocs check: {len(report['findings'])} findings, exit {run.returncode}")
-        return command
-    detail = (run.stderr.strip().splitlines() or ["no JSON on stdout"])[-1]
-    print(f"note: `loopdocs check` not usable yet (exit {run.returncode}: {detail}); timing reading alone instead")
-    return None
-
-
-def timed(command: list[str]) -> tuple[float, str]:
-    started = time.perf_counter()
-    run = subprocess.run(command, capture_output=True, text=True, cwd=ROOT)
-    elapsed = time.perf_counter() - started
-    if run.returncode not in (0, 1):
-        raise SystemExit(f"command failed (exit {run.returncode}): {' '.join(command[:3])} ...\n{run.stderr}")
-    return elapsed, run.stdout.strip().splitlines()[-1] if run.stdout.strip() else ""
+    ratio = measured.seconds("check") / measured.seconds("openpyxl")
+    floor = measured.seconds("floor") / measured.seconds("openpyxl")
+    verdict = "met" if ratio <= TARGET_RATIO else "NOT met"
+    print(f"  ratio check/openpyxl = {ratio:.2f} (target <= {TARGET_RATIO}: {verdict}); floor/openpyxl = {floor:.2f}")
+    return ratio
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--loops", type=int, default=3000)
     parser.add_argument("--repeat", type=int, default=5)
+    parser.add_argument("--generator", nargs="+", choices=GENERATORS, default=list(GENERATORS))
+    parser.add_argument("--memory", action="store_true", help=f"also check's peak memory at {MEMORY_LOOPS} loops")
     args = parser.parse_args()
 
-    path = index_file(args.loops)
-    size_mb = path.stat().st_size / 1e6
-    print(f"index: {path.relative_to(ROOT)} ({args.loops} loops, {size_mb:.1f} MB); machine: {os.cpu_count()} cores")
-    reading = [PYTHON, "-c", READ_ONLY, str(path)]
-    check = check_command(path)
-    runs = {}
-    if check is not None:
-        runs["check"] = ("loopdocs check FILE --format json (console script)", check)
-    runs["read"] = ("python -c: loopdocs.read.read_index(FILE) only", reading)
-    runs["openpyxl"] = ("python -c: openpyxl load_workbook(read_only=True, data_only=True), all rows' values", [PYTHON, "-c", OPENPYXL_READ, str(path)])
-
-    for _, command in runs.values():  # warm the page cache and the bytecode cache
-        timed(command)
-    times: dict[str, list[float]] = {name: [] for name in runs}
-    for _ in range(args.repeat):  # alternate, so load changes on a shared machine hit all alike
-        for name, (_, command) in runs.items():
-            times[name].append(timed(command)[0])
-    medians = {name: statistics.median(values) for name, values in times.items()}
-    for name, (what, _) in runs.items():
-        runs_text = ", ".join(f"{t:.3f}" for t in times[name])
-        print(f"{name:>8}: median {medians[name]:.3f} s  [{runs_text}]  {what}")
-    for name in runs:
-        if name != "openpyxl":
-            ratio = medians[name] / medians["openpyxl"]
-            verdict = "met" if ratio <= TARGET_RATIO else "NOT met"
-            print(f"ratio {name}/openpyxl = {ratio:.2f} (target <= {TARGET_RATIO}: {verdict})")
-    if "check" not in runs:
-        print("timed: reading alone (loopdocs check not available), not the whole check")
+    print(f"machine: {os.cpu_count()} cores, load average {os.getloadavg()[0]:.2f}; "
+          f"{args.repeat} alternating runs of each command, medians", flush=True)
+    verdicts = []
+    for generator in args.generator:
+        path = index_file(args.loops, generator)
+        ratio = report(measure(path, args.repeat), f"{args.loops} loops, {generator} generator")
+        verdicts.append(ratio is not None and ratio <= TARGET_RATIO)
+    if args.memory:
+        path = index_file(MEMORY_LOOPS, "default")
+        measured = measure(path, 1, ("check", "floor"))
+        report(measured, f"{MEMORY_LOOPS} loops, default generator (memory)")
+        peak = measured.peak_mb("check")
+        ok = peak <= TARGET_MEMORY_MB
+        verdicts.append(ok)
+        print(f"  check peak memory {peak:.0f} MB (target <= {TARGET_MEMORY_MB:.0f} MB: {'met' if ok else 'NOT met'})")
+    print("every target met" if all(verdicts) else "some target NOT met")
 
 
 if __name__ == "__main__":

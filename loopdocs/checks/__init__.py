@@ -28,6 +28,7 @@ from loopdocs.core.findings import Acceptance, Finding, Severity, sorted_finding
 from loopdocs.model.groups import SplitGroup, groups_for
 from loopdocs.model.loading import load_project
 from loopdocs.model.records import Project
+from loopdocs.read.background import PendingRead
 from loopdocs.read.project_file import ProjectConfig
 
 CheckFunction = Callable[[Project], Iterable[Finding]]
@@ -85,9 +86,10 @@ def apply_acceptances(findings: list[Finding], config: ProjectConfig) -> list[Fi
     return result
 
 
-def check_project(path: Path) -> Checked:
-    """Read, convert and check: every finding, sorted by loop and severity."""
-    project, findings = load_project(path)
+def check_project(path: Path, pending: PendingRead | None = None) -> Checked:
+    """Read, convert and check: every finding, sorted by loop and severity. ``pending``:
+    the read of PATH already started on a second thread (``loopdocs.read.background``)."""
+    project, findings = load_project(path, pending)
     splits = groups_for(project)
     findings = findings + run_checks(project)
     return Checked(project, sorted_findings(apply_acceptances(findings, project.config)), splits)

@@ -29,7 +29,7 @@ from loopdocs.model.records import Loop, Project, Tag
 from loopdocs.model.tagname import TagKind, TagParts, compile_tag_pattern, parse_tag, tag_kind
 from loopdocs.model.vocab import LIST_VOCAB_COLUMNS, VOCAB_COLUMNS
 from loopdocs.read import IndexTable
-from loopdocs.read.columns import NUMERIC_KEYS
+from loopdocs.read.columns import COLUMNS, NUMERIC_KEYS
 from loopdocs.read.project_file import ProjectConfig
 
 _NUMBER_TEXT = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
@@ -118,6 +118,13 @@ def _convert_uncached(key: str, value: Any) -> Any:
     return _text(value)
 
 
+#: Columns of free text: a text cell is kept as read (stripped), nothing to look up.
+_PLAIN_TEXT_KEYS = frozenset(
+    column.key for column in COLUMNS
+    if column.key not in VOCAB_COLUMNS and column.key not in LIST_VOCAB_COLUMNS and column.key not in NUMERIC_KEYS
+)
+
+
 @lru_cache(maxsize=65536)
 def _convert_cached(key: str, value: Any, kind: type) -> Any:
     return _convert_uncached(key, value)
@@ -153,8 +160,8 @@ def loop_id_for(given: str | None, parts: TagParts) -> tuple[str, bool]:
     derived = parts.loop_id
     if not given:
         return derived, True
-    folded = re.sub(r"[\s_]+", "-", given.strip().upper())
-    match = re.fullmatch(r"(?:([0-9A-Z]*[0-9][0-9A-Z]*)-)?([A-Z]*)-?0*([0-9]+)[A-Z]?", folded)
+    folded = _LOOP_SEPARATORS.sub("-", given.strip().upper())
+    match = _LOOP_CELL.fullmatch(folded)
     if match:
         area, letters, number = match.group(1) or "", match.group(2), match.group(3)
         agrees = (
@@ -164,6 +171,9 @@ def loop_id_for(given: str | None, parts: TagParts) -> tuple[str, bool]:
             return derived, True
     return given.strip(), False
 
+
+_LOOP_SEPARATORS = re.compile(r"[\s_]+")
+_LOOP_CELL = re.compile(r"(?:([0-9A-Z]*[0-9][0-9A-Z]*)-)?([A-Z]*)-?0*([0-9]+)[A-Z]?")
 
 READ_NOTICES_SHOWN_PER_COLUMN = 3
 
@@ -189,8 +199,43 @@ def read_findings(table: IndexTable) -> list[Finding]:
     return findings
 
 
-def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tuple[Project, list[Finding]]:
-    """Convert the rows of an index into a ``Project`` and the findings met on the way."""
+def _fields_reporting(row: Any, tag_text: str, parts: TagParts, findings: list[Finding], at: Any) -> dict[str, Any]:
+    """The converted cells of a row that has a cell that does not convert: that cell left
+    out (treated as blank) and reported (``index.vocabulary`` or ``index.not-a-number``)."""
+    fields: dict[str, Any] = {}
+    for key, value in row.values.items():
+        if key == "tag":
+            continue
+        try:
+            fields[key] = convert(key, value)
+        except ValueError as exc:
+            rule = "index.vocabulary" if key in VOCAB_COLUMNS or key in LIST_VOCAB_COLUMNS else "index.not-a-number"
+            findings.append(Finding(
+                rule, Severity.ERROR, f"{tag_text}: {exc}",
+                loop=parts.loop_id, tags=(tag_text,), location=at(row.row, key),
+            ))
+    return fields
+
+
+def _rows_of(table: IndexTable, release: bool) -> Iterable[Any]:
+    """The table's rows in order; with ``release`` each is dropped from the table once
+    handed out (the caller owns the table: a large index's rows and records are then
+    never all held at once)."""
+    if not release:
+        yield from table.rows
+        return
+    rows, table.rows = table.rows, []
+    rows.reverse()
+    while rows:
+        yield rows.pop()
+
+
+def build_project(
+    table: IndexTable, config: ProjectConfig | None = None, release_rows: bool = False
+) -> tuple[Project, list[Finding]]:
+    """Convert the rows of an index into a ``Project`` and the findings met on the way.
+    ``release_rows``: empty ``table.rows`` while converting (for a caller that reads the
+    table only to build the project; it halves the peak memory of a large index)."""
     config = config or ProjectConfig()
     pattern = compile_tag_pattern(config.index.tag_pattern)
     findings = read_findings(table)
@@ -200,8 +245,16 @@ def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tup
     def at(row: int, key: str) -> Location | None:
         return table.location(row, key)
 
-    for row in table.rows:
-        if any(isinstance(v, str) and (len(v) > MAX_TEXT_CHARS or _UNPRINTABLE.search(v)) for v in row.values.values()):
+    # Tags that hold values in the same columns share one set of the names given (a
+    # pydantic record keeps one per record: 2 kB, the largest part of a record).
+    shared_names: dict[tuple[str, ...], set[str]] = {}
+    converted, plain = _convert_cached, _PLAIN_TEXT_KEYS
+    for row in _rows_of(table, release_rows):
+        # one search over the row's texts joined by a newline (a character the search does
+        # not look for); a row longer than the longest cell holds is looked at cell by cell
+        texts = "\n".join([v for v in row.values.values() if isinstance(v, str)])
+        if _UNPRINTABLE.search(texts) or (
+                len(texts) > MAX_TEXT_CHARS and any(isinstance(v, str) and len(v) > MAX_TEXT_CHARS for v in row.values.values())):
             row = _printable_row(row, findings, at)
         raw_tag = row.values.get("tag")
         if raw_tag is None:
@@ -226,26 +279,26 @@ def build_project(table: IndexTable, config: ProjectConfig | None = None) -> tup
             continue
         first_row[tag_text] = row.row
 
-        fields: dict[str, Any] = {}
-        for key, value in row.values.items():
-            if key == "tag":
-                continue
-            try:
-                fields[key] = convert(key, value)
-            except ValueError as exc:
-                rule = "index.vocabulary" if key in VOCAB_COLUMNS or key in LIST_VOCAB_COLUMNS else "index.not-a-number"
-                findings.append(Finding(
-                    rule, Severity.ERROR, f"{tag_text}: {exc}",
-                    loop=parts.loop_id, tags=(tag_text,), location=at(row.row, key),
-                ))
+        try:  # every cell converts: one comprehension (text of a plain text column is kept as read)
+            fields: dict[str, Any] = {
+                key: value.strip() if type(value) is str and key in plain else converted(key, value, type(value))
+                for key, value in row.values.items() if key != "tag"
+            }
+        except ValueError:
+            fields = _fields_reporting(row, tag_text, parts, findings, at)
         if "driven_by" in fields:
             fields["driven_by"] = fields["driven_by"].upper()
         loop_given = fields.pop("loop", None)
         loop, _ = loop_id_for(loop_given, parts)
-        tags[tag_text] = Tag(
+        record = Tag(
             tag=tag_text, parts=parts, kind=tag_kind(parts), loop=loop,
             loop_given=loop_given, row=row.row, extra=dict(row.extra), **fields,
         )
+        names = record.__pydantic_fields_set__
+        same = shared_names.setdefault(tuple(fields), names)
+        if same is not names and same == names:  # records are frozen: the set is never changed
+            object.__setattr__(record, "__pydantic_fields_set__", same)
+        tags[tag_text] = record
 
     project = Project(
         index_path=str(table.path), sheet=table.sheet,

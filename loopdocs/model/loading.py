@@ -9,28 +9,21 @@ from loopdocs.core.errors import InputError
 from loopdocs.core.findings import Finding
 from loopdocs.model.records import Project
 from loopdocs.model.tagname import TagPatternError
-from loopdocs.read.project_file import load_config, locate
-from loopdocs.read.project_file import ProjectConfig
+from loopdocs.read.background import PendingRead, read_project
 
 
-def load_project(path: Path) -> tuple[Project, list[Finding]]:
+def load_project(path: Path, pending: PendingRead | None = None) -> tuple[Project, list[Finding]]:
     """Read the index at PATH (file or project folder) into records.
 
+    ``pending``: the same read already started on a second thread
+    (``loopdocs.read.background.start_reading``), waited for here.
     Returns the project and the findings met while reading and converting it.
     Raises ``InputError`` when the input cannot be read at all.
     """
     from loopdocs.model.from_rows import build_project
-    from loopdocs.read import read_index
 
-    paths = locate(Path(path))
-    config = load_config(paths.config_file) if paths.config_file else ProjectConfig()
+    paths, config, table = pending.result() if pending is not None else read_project(Path(path))
     try:
-        table = read_index(paths.index, sheet=config.index.sheet, column_map=config.columns)
-    except InputError:
-        raise
-    except Exception as exc:  # last line of defence: one line, never a traceback
-        raise InputError(f"{paths.index}: could not be read ({type(exc).__name__}: {exc})") from None
-    try:
-        return build_project(table, config)
+        return build_project(table, config, release_rows=True)
     except TagPatternError as exc:
         raise InputError(f"{paths.config_file}: [index] {exc}") from None

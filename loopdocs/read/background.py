@@ -1,13 +1,13 @@
-"""Reading a project's index on a second thread while the command imports the rest of
-loopdocs (the model, the checks and their libraries).
+"""Reading a project's index while the command imports the rest of loopdocs (the
+model, the checks and their libraries).
 
-``start_reading(path)`` locates the project and reads its ``loopdocs.toml`` at once (so
-an error there is raised by the caller), then starts reading the index on a daemon
-thread; ``PendingRead.result()`` waits for it and returns what :func:`read_project`
-returns, or raises what it raised. The workbook parse (python-calamine) and the unzip of
-the sheet release the interpreter lock, so with a free processor core they run beside
-the imports. The thread imports only the reader's own modules, none of which imports
-another in a circle, so the two threads never wait on each other's imports.
+``start_reading(path)`` starts parsing the workbook's first worksheet on a second thread
+(python-calamine parses without the interpreter lock, so with a free processor core the
+parse and the imports run side by side), then locates the project and reads its
+``loopdocs.toml`` (an error there is raised at once). ``PendingRead.result()`` reads the
+index, using the parsed sheet when it is the one the index is on, and returns what
+:func:`read_project` returns, or raises what it raises. The rows are turned into the
+table on the asking thread, so the two threads never take turns at Python work.
 """
 
 from __future__ import annotations
@@ -17,62 +17,94 @@ from pathlib import Path
 from typing import Any
 
 from loopdocs.core.errors import InputError
-from loopdocs.read.project_file import ProjectConfig, ProjectPaths, load_config, locate
+
+WORKBOOK_SUFFIXES = (".xlsx", ".xlsm")
 
 
-def locate_project(path: Path) -> tuple[ProjectPaths, ProjectConfig]:
-    """The project at PATH (index file or folder) located, and its ``loopdocs.toml`` read."""
+def locate_project(path: Path) -> tuple[Any, Any]:
+    """``(paths, config)``: the project at PATH (index file or folder) located, and its
+    ``loopdocs.toml`` read (``ProjectPaths``, ``ProjectConfig``)."""
+    from loopdocs.read.project_file import ProjectConfig, load_config, locate
+
     paths = locate(Path(path))
     config = load_config(paths.config_file) if paths.config_file else ProjectConfig()
     return paths, config
 
 
-def read_table(paths: ProjectPaths, config: ProjectConfig) -> Any:
-    """The project's index read (an ``IndexTable``). ``InputError`` when it cannot be read;
-    any other failure of the reader is turned into one (one line, never a traceback)."""
-    from loopdocs.read import read_index
-
+def _guarded(paths: Any, step: Any, *args: Any) -> Any:
+    """``step(*args)`` with any failure but an ``InputError`` turned into one (one line)."""
     try:
-        return read_index(paths.index, sheet=config.index.sheet, column_map=config.columns)
+        return step(*args)
     except InputError:
         raise
     except Exception as exc:  # last line of defence: one line, never a traceback
         raise InputError(f"{paths.index}: could not be read ({type(exc).__name__}: {exc})") from None
 
 
-def read_project(path: Path) -> tuple[ProjectPaths, ProjectConfig, Any]:
+def read_table(paths: Any, config: Any, parsed: dict[str, Any] | None = None) -> Any:
+    """The project's index read (an ``IndexTable``); ``parsed``: sheets of its workbook
+    already parsed. ``InputError`` when it cannot be read; any other failure of the
+    reader is turned into one (one line, never a traceback)."""
+    from loopdocs.read import read_index
+
+    if parsed and paths.index.suffix.lower() in WORKBOOK_SUFFIXES:
+        from loopdocs.read.xlsx import open_sheet, read_open_sheet
+
+        opened = _guarded(paths, open_sheet, paths.index, config.index.sheet, config.columns, parsed)
+        return _guarded(paths, read_open_sheet, opened)
+    return _guarded(paths, read_index, paths.index, config.index.sheet, config.columns)
+
+
+def read_project(path: Path) -> tuple[Any, Any, Any]:
     """``(paths, config, table)`` of the project at PATH, on this thread."""
     paths, config = locate_project(path)
     return paths, config, read_table(paths, config)
 
 
-class PendingRead:
-    """:func:`read_table` running on a daemon thread (see the module docstring)."""
+class _FirstSheet:
+    """``read.xlsx.parse_first_sheet`` of a workbook file on a daemon thread."""
 
-    def __init__(self, paths: ProjectPaths, config: ProjectConfig) -> None:
-        self.paths, self.config = paths, config
-        self._table: Any = None
-        self._error: BaseException | None = None
-        self._thread = threading.Thread(target=self._run, name="loopdocs-read", daemon=True)
+    def __init__(self, path: Path) -> None:
+        self.path = path
+        self.sheets: dict[str, Any] = {}
+        self._thread = threading.Thread(target=self._run, name="loopdocs-parse", daemon=True)
         self._thread.start()
 
     def _run(self) -> None:
-        try:
-            self._table = read_table(self.paths, self.config)
-        except BaseException as exc:  # handed to the caller by result()
-            self._error = exc
+        from loopdocs.read.xlsx import parse_first_sheet
 
-    def result(self) -> tuple[ProjectPaths, ProjectConfig, Any]:
-        """Wait for the read; ``(paths, config, table)``, or raise the reader's error."""
+        self.sheets = parse_first_sheet(self.path)
+
+    def result(self) -> dict[str, Any]:
         self._thread.join()
-        if self._error is not None:
-            error, self._error = self._error, None
-            raise error
-        table, self._table = self._table, None  # handed over, not kept alive with the records
-        return self.paths, self.config, table
+        sheets, self.sheets = self.sheets, {}
+        return sheets
+
+
+class PendingRead:
+    """A read of a project's index whose workbook parse may have started (see the
+    module docstring)."""
+
+    def __init__(self, paths: Any, config: Any, ahead: _FirstSheet | None = None) -> None:
+        self.paths, self.config, self._ahead = paths, config, ahead
+
+    def result(self) -> tuple[Any, Any, Any]:
+        """``(paths, config, table)``, or the reader's ``InputError``."""
+        ahead, self._ahead = self._ahead, None
+        parsed: dict[str, Any] = {}
+        if ahead is not None:
+            parsed = ahead.result()
+            if not ahead.path.samefile(self.paths.index):
+                parsed = {}
+        return self.paths, self.config, read_table(self.paths, self.config, parsed)
 
 
 def start_reading(path: Path) -> PendingRead:
-    """Locate the project at PATH and read its config here, then read its index on a
-    second thread. ``InputError`` at once for a missing path or a bad ``loopdocs.toml``."""
-    return PendingRead(*locate_project(path))
+    """Start parsing the index workbook at PATH on a second thread (a workbook file given
+    directly: a project folder's index is known only from its ``loopdocs.toml``), then
+    locate the project and read its config here. ``InputError`` at once for a missing
+    path or a bad ``loopdocs.toml``."""
+    path = Path(path)
+    ahead = _FirstSheet(path) if path.suffix.lower() in WORKBOOK_SUFFIXES and path.is_file() else None
+    paths, config = locate_project(path)
+    return PendingRead(paths, config, ahead)

@@ -14,6 +14,7 @@ import datetime as dt
 import posixpath
 import re
 import zipfile
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Iterator
 
@@ -164,6 +165,31 @@ def _check_dimension(path: Path, part: str, head: bytes) -> None:
 
 def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None) -> IndexTable:
     """The index in sheet ``sheet`` (default: the first sheet with a Tag header)."""
+    return read_open_sheet(open_sheet(path, sheet, column_map))
+
+
+@dataclass
+class OpenSheet:
+    """A workbook's index sheet parsed by calamine, its header row found, its rows not yet
+    read (:func:`open_sheet`, then :func:`read_open_sheet`)."""
+
+    path: Path
+    name: str
+    sheet: Any
+    """The ``CalamineSheet``."""
+    header_index: int
+    header: list[Any]
+    merged: Any
+    lookup: dict[str, str]
+
+
+def open_sheet(
+    path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None,
+    parsed: dict[str, Any] | None = None,
+) -> OpenSheet:
+    """Check and parse the workbook, find the index sheet and its header row.
+    ``parsed``: sheets of this workbook already parsed (name -> ``CalamineSheet``, see
+    :func:`parse_first_sheet`), used instead of parsing them again."""
     from python_calamine import CalamineError, CalamineWorkbook, SheetTypeEnum, ZipError
 
     lookup = lookup_for(column_map)
@@ -182,7 +208,7 @@ def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] |
                 candidates = [n for n in names if kinds.get(n, SheetTypeEnum.WorkSheet) == SheetTypeEnum.WorkSheet]
             seen: list[tuple[str, str]] = []
             for name in candidates:
-                calamine_sheet = book.get_sheet_by_name(name)
+                calamine_sheet = (parsed or {}).pop(name, None) or book.get_sheet_by_name(name)
                 top = calamine_sheet.to_python(skip_empty_area=False, nrows=HEADER_SEARCH_ROWS)
                 header_index = find_header_row(top, lookup)
                 if header_index is None:
@@ -203,12 +229,38 @@ def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] |
     except (OSError, ValueError, RuntimeError) as exc:
         raise InputError(f"{path}: cannot read the workbook ({_one_line(exc)})") from None
 
-    # Row by row: the sheet is never held twice (once by calamine, once as Python lists),
-    # the peak memory of a large index (docs/performance.md).
-    rows = data_rows(calamine_sheet, header_index, merged)
-    table = build_table(path, name, rows, header_index, lookup, cell_value, header=top[header_index])
-    cells = (calamine_sheet.height or 0) * (calamine_sheet.width or 0)
-    del calamine_sheet, rows
+    return OpenSheet(path, name, calamine_sheet, header_index, top[header_index], merged, lookup)
+
+
+def parse_first_sheet(path: Path) -> dict[str, Any]:
+    """``{name: CalamineSheet}`` of the workbook's first worksheet, where most indexes
+    are, parsed ahead while the command imports the rest of loopdocs (the parse runs
+    without the interpreter lock; ``loopdocs.read.background``). The same checks as
+    :func:`open_sheet` come first; any trouble gives ``{}`` and :func:`open_sheet` then
+    meets and reports it."""
+    try:
+        from python_calamine import CalamineWorkbook, SheetTypeEnum
+
+        check_workbook_file(path)
+        check_workbook_bounds(path)
+        with CalamineWorkbook.from_path(str(path)) as book:
+            for meta in book.sheets_metadata:
+                if meta.typ == SheetTypeEnum.WorkSheet:
+                    return {meta.name: book.get_sheet_by_name(meta.name)}
+    except Exception:  # reported by open_sheet, which does the same again
+        pass
+    return {}
+
+
+def read_open_sheet(opened: OpenSheet) -> IndexTable:
+    """The index table of an opened sheet. Row by row: the sheet is never held twice (once
+    by calamine, once as Python lists), the peak memory of a large index (docs/performance.md)."""
+    path, name, header_index = opened.path, opened.name, opened.header_index
+    rows = data_rows(opened.sheet, header_index, opened.merged)
+    table = build_table(path, name, rows, header_index, opened.lookup, cell_value, header=opened.header)
+    cells = (opened.sheet.height or 0) * (opened.sheet.width or 0)
+    opened.sheet = None
+    del rows
     if cells > TRIM_AFTER_CELLS:
         return_freed_memory()
     letters = set(table.columns.values()) | set(table.extra_columns.values())

@@ -112,6 +112,33 @@ def sheet_pdf(
                   print_zoom(frame.settings))
 
 
+#: Fonts subset by fontTools instead of the HarfBuzz subsetting library: sheets take about
+#: this many times as long (per-sheet profile of weasyprint's ``write_pdf``, docs/performance.md).
+FONTTOOLS_SLOWDOWN = 1.7
+
+SUBSETTING_NOTE = (
+    "note: the HarfBuzz font subsetting library (libharfbuzz-subset) is not installed, so fonts are "
+    f"subset with fontTools and sheets render about {FONTTOOLS_SLOWDOWN:g} times slower (same PDFs); "
+    "install it to build faster (Debian, Ubuntu: apt install libharfbuzz-subset0)"
+)
+
+
+def harfbuzz_subsetting() -> bool:
+    """Whether weasyprint subsets the fonts it embeds with the HarfBuzz subsetting
+    library. The same test weasyprint makes before each subset (``weasyprint.pdf.fonts``):
+    the library loaded (``weasyprint.text.ffi.harfbuzz_subset``, ``None`` when the
+    system has none) and HarfBuzz 4.1.0 or newer; otherwise it falls back to fontTools."""
+    from weasyprint.text.ffi import harfbuzz, harfbuzz_subset
+
+    return harfbuzz_subset is not None and bool(harfbuzz.hb_version_atleast(4, 1, 0))
+
+
+def subsetting_notes(sheets_rendered: Sequence[str]) -> list[str]:
+    """The one line to print after a build that rendered sheets on the slow font path
+    (:data:`SUBSETTING_NOTE`), else nothing."""
+    return [SUBSETTING_NOTE] if sheets_rendered and not harfbuzz_subsetting() else []
+
+
 def quiet_weasyprint() -> None:
     """Keep weasyprint's per-render chatter (font and CSS notices) off the terminal;
     errors still show."""
