@@ -18,6 +18,7 @@ from loopdocs.calc.travel import Settings, realised_travel_pct
 from loopdocs.draw.range_chart import (
     CHART_HEIGHT_MM,
     CHART_WIDTH_MM,
+    PLOT_HEIGHT_MM,
     RangeChart,
     chart_layout,
     range_chart_svg,
@@ -312,7 +313,9 @@ def test_random_close_boundaries_never_overlap(tmp_path_factory, split):
 
 def test_natural_size_and_svg(charts, checked):
     for controller, (group, chart) in charts.items():
-        assert (chart.width_mm, chart.height_mm) == (CHART_WIDTH_MM, CHART_HEIGHT_MM)
+        assert chart.width_mm == CHART_WIDTH_MM and chart.height_mm <= CHART_HEIGHT_MM
+        # the plot as tall as PLOT_HEIGHT_MM, or the chart at its largest
+        assert chart.plot.height == pytest.approx(PLOT_HEIGHT_MM) or chart.height_mm == CHART_HEIGHT_MM
         svg = range_chart_svg(group, checked.findings)
         root = check_svg11(svg)
         for element in root.iter():

@@ -1,7 +1,8 @@
 """Range chart of a split group: travel against controller output, as drawing data.
 
 One chart per split group (``loopdocs.model.groups``), drawn to be read at its natural
-size, ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM`` (about the space an A3 loop sheet gives it):
+size, ``CHART_WIDTH_MM`` wide and at most ``CHART_HEIGHT_MM`` tall (a ``PLOT_HEIGHT_MM``
+plot with its title and axes; about the space an A3 loop sheet gives it):
 
 - travel %, 0 to 100, against CO %, 0 to 100, one line per element, labelled with its
   tag. The line is the travel the element's *settings* give (docs/design.md §4.3,
@@ -60,6 +61,10 @@ PLOT_LEFT_MM = 20.0
 PLOT_RIGHT_MM = 142.0
 PLOT_TOP_MM = 16.0
 PLOT_BOTTOM_MM = 78.0
+PLOT_HEIGHT_MM = 50.0
+"""Height of the plot (travel 0 to 100 %): the chart is as tall as the plot, its title and
+its axes need, at most ``CHART_HEIGHT_MM`` (a chart without the shared signal's axis is
+shorter, leaving room on the sheet)."""
 
 GRID_GREY = "#b3b3b3"
 GRID_GREY_DARK = "#666666"
@@ -319,7 +324,7 @@ def _subtitle(group: SplitGroup) -> str | None:
 def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeChart:
     """Place the range chart of ``group``; ``findings`` of the project (those on the
     group's tags, error or warning, are marked). Sizes in mm, natural size
-    ``CHART_WIDTH_MM`` x ``CHART_HEIGHT_MM`` (taller only when findings need a list below)."""
+    ``CHART_WIDTH_MM`` x at most ``CHART_HEIGHT_MM`` (taller only when findings need a list below)."""
     shared = group.method in ("positioner", "pneumatic") and bool(group.elements)
     # under the plot: CO ticks and title; the shared signal's axis, ticks and title
     bottom_space = (SIGNAL_AXIS_MM + AXIS_TITLE_MM if shared else CO_TITLE_MM) + TEXT_MM + 2.5
@@ -327,14 +332,15 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
     width = max(CHART_WIDTH_MM, round(text_width_mm(_title(group), TITLE_MM, bold=True) + 1.5, 1))
     subtitles = wrap_text(subtitle, width - 1.0, TEXT_MM) if subtitle else []
     plot_top = PLOT_TOP_MM + LINE_MM * len(subtitles)
-    plot_rect = Rect(PLOT_LEFT_MM, plot_top, PLOT_RIGHT_MM - PLOT_LEFT_MM, CHART_HEIGHT_MM - bottom_space - plot_top)
+    height = min(CHART_HEIGHT_MM, plot_top + PLOT_HEIGHT_MM + bottom_space)
+    plot_rect = Rect(PLOT_LEFT_MM, plot_top, PLOT_RIGHT_MM - PLOT_LEFT_MM, height - bottom_space - plot_top)
     # as wide as its title when the title is longer (3.5 mm bold on one line)
     chart = RangeChart(controller=group.controller, loop_id=group.loop,
-                       width_mm=width, height_mm=CHART_HEIGHT_MM, plot=plot_rect)
+                       width_mm=width, height_mm=height, plot=plot_rect)
     chart.title = f"Range chart {group.controller}"
     chart.description = _title(group)
     plot = chart.plot
-    placer = _Placer(Rect(0.0, 0.0, width, CHART_HEIGHT_MM + 60.0))
+    placer = _Placer(Rect(0.0, 0.0, width, height + 60.0))
 
     def put(text: PlacedText) -> PlacedText:
         chart.texts.append(text)
@@ -537,11 +543,11 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
             placed = any(_marker(chart, placer, x, b, text, inner) for x, b in spots)
         if not placed:
             notes.append(f"{text}: {', '.join(finding.tags)}")
-    y = CHART_HEIGHT_MM - 1.0
+    y = height - 1.0
     for note in notes:
         _marker(chart, placer, plot.x, y + ASCENT_EM * TEXT_MM, note, None, force=True)
         y += LINE_MM + 0.5
-    chart.height_mm = round(y + 1.5, 3) if notes else CHART_HEIGHT_MM
+    chart.height_mm = round(y + 1.5, 3) if notes else height
     return chart
 
 

@@ -62,6 +62,8 @@ class DisplayTable:
     """The basis in brackets at the end of ``tolerance`` (``presentation.TableView``)."""
     note_refs: tuple[int, ...] = ()
     """Numbers of the sheet notes that hold this table's shared notes (:func:`share_notes`)."""
+    min_width_mm: float = MIN_TABLE_MM
+    """Narrowest the table is printed: its columns are stretched to it (:meth:`widened`)."""
 
     @property
     def refs_text(self) -> str:
@@ -90,12 +92,17 @@ class DisplayTable:
             # a head breaks at its spaces only (not after the hyphen of a tag): its longest word fits
             word = max(text_width_mm(w, TABLE_TEXT_MM, bold=True) for w in head.split()) if head.strip() else 0.0
             widths.append(max(min(natural, *broken), word, cells) + CELL_PAD_MM)
-        stretch = max(1.0, MIN_TABLE_MM / sum(widths)) if widths else 1.0
+        stretch = max(1.0, self.min_width_mm / sum(widths)) if widths else 1.0
         return tuple(round(w * stretch, 1) for w in widths)
 
     @property
     def width_mm(self) -> float:
         return round(sum(self.column_widths_mm), 1)
+
+    def widened(self, width_mm: float) -> "DisplayTable":
+        """The same table printed at least ``width_mm`` wide: its caption and notes wrap
+        into fewer lines, so it is shorter (a wide, low table fits under a range chart)."""
+        return replace(self, min_width_mm=max(self.min_width_mm, width_mm))
 
     @property
     def height_mm(self) -> float:

@@ -34,6 +34,11 @@ class Box:
     free_corner_mm: tuple[float, float] | None = None
     """A point inside the box (from its top left) from which the box holds nothing to
     its right and bottom edges: other boxes may go there (a loop diagram's empty corner)."""
+    variants: tuple[tuple[float, float], ...] = ()
+    """Other sizes the same thing can be printed at (a table set wider, so lower), tried in
+    order where the box fits nowhere at its own size."""
+    variant: int = 0
+    """Which size was placed: 0 its own, ``k`` the ``k``-th of ``variants``."""
 
 
 @dataclass(frozen=True)
@@ -85,14 +90,32 @@ def place(box: Box, placed: Sequence[Placed], width_mm: float, height_mm: float,
     return None
 
 
+def place_any(box: Box, placed: Sequence[Placed], width_mm: float, height_mm: float,
+              gap_mm: float = GAP_MM) -> Placed | None:
+    """:func:`place` at the box's own size, else at the first of its ``variants`` that fits.
+
+    >>> wide = Box("t", 40, 30, variants=((90, 18),))
+    >>> p = place_any(wide, [Placed(Box("d", 100, 70), 0.0, 0.0)], 100, 100)
+    >>> (p.x_mm, p.y_mm, p.box.width_mm, p.box.height_mm, p.box.variant)
+    (0.0, 74.0, 90, 18, 1)
+    """
+    spot = place(box, placed, width_mm, height_mm, gap_mm)
+    for k, (w, h) in enumerate(box.variants, start=1):
+        if spot is not None:
+            break
+        spot = place(replace(box, width_mm=w, height_mm=h, variants=(), variant=k), placed, width_mm, height_mm, gap_mm)
+    return spot
+
+
 def pack(boxes: Sequence[Box], width_mm: float, height_mm: float, gap_mm: float = GAP_MM,
          placed: Sequence[Placed] = ()) -> tuple[list[Placed], list[Box]]:
-    """Place ``boxes`` in order in the area (after those already ``placed``); returns the
-    placed boxes (with those given) and, in order, those that did not fit."""
+    """Place ``boxes`` in order in the area (after those already ``placed``), each at its
+    own size or one of its variants (:func:`place_any`); returns the placed boxes (with
+    those given) and, in order, those that did not fit."""
     done = list(placed)
     rest = []
     for box in boxes:
-        spot = place(box, done, width_mm, height_mm, gap_mm)
+        spot = place_any(box, done, width_mm, height_mm, gap_mm)
         if spot is None:
             rest.append(box)
         else:

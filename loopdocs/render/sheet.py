@@ -239,9 +239,9 @@ STATUS_MM = 34.0
 HEADER_MM = 1.0
 """Kept free at the foot of the drawing area (rounding of the packed heights); the loop
 id heads the side column."""
-LOOP_HEAD_MM = 22.0
-"""Loop id (6.9 mm type) and service (two lines of body type) at the top of the side
-column, with its rule and space (``sheet.css`` ``.loop-head``)."""
+LOOP_HEAD_MM = 18.0
+"""Loop id (6.9 mm type) and service (one line of body type) at the top of the side
+column, with its rule and space (``sheet.css`` ``.loop-head``; 17.4 mm rendered)."""
 HALF_SIZE = {"A4": "A3"}
 """Papers that print the layout of a larger one at half size (A4 is A3 at 1:√2, ISO 216)."""
 
@@ -335,34 +335,56 @@ def _lines(text: str, width_mm: float, size_mm: float = BODY_TEXT_MM) -> int:
     return max(1, len(wrap_text(text, width_mm, size_mm)))
 
 
-TITLE_BLOCK_MM = 80.0
-"""Height of the side column's title block (``sheet.html``; 78 mm rendered)."""
+TITLE_BLOCK_MM = 78.0
+"""Height of the side column's title block with a one-line title (``sheet.html``; 77 mm
+rendered with the example's two-line project name); each more line of the title adds
+``BODY_LINE_MM``."""
 
 
-def side_bottom_mm(revision_rows: int) -> float:
+def title_text(loop_id: str, service: str) -> str:
+    """The title of a loop sheet as its title block prints it."""
+    return f"Loop sheet, loop {loop_id}" + (f": {service}" if service else "")
+
+
+def side_bottom_mm(revision_rows: int, title: str = "") -> float:
     """Height of the foot of the side column: caution (its text wrapped to the column),
-    the revision table and the title block, 3 mm to spare."""
+    the revision table and the title block (its title wrapped to the column), 2 mm to
+    spare."""
     caution = 3.0 + 2 * 1.5 + BODY_LINE_MM * (1 + _lines(CAUTION, SIDE_WIDTH_MM - 4.7)) + 3.0
     revisions_mm = 5.0 + 3.5 * (1 + revision_rows)
-    return caution + revisions_mm + TITLE_BLOCK_MM + 3.0
+    title_mm = BODY_LINE_MM * (_lines(title, SIDE_WIDTH_MM - 2.4) - 1) if title else 0.0
+    return caution + revisions_mm + TITLE_BLOCK_MM + title_mm + 2.0
 
 
-def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool) -> float:
+def loop_head_mm(service: str) -> float:
+    """Height of the loop id and the loop's service (wrapped to the side column) at its top."""
+    return LOOP_HEAD_MM + BODY_LINE_MM * (_lines(service, SIDE_WIDTH_MM) - 1 if service else 0)
+
+
+def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool, title: str = "",
+                 service: str = "") -> float:
     """Height left in the side column for the tags, notes and findings, once the loop id,
     the status box and the foot (:func:`side_bottom_mm`) are in."""
     paper = layout_paper(settings)
     inner = paper.height_mm - 2 * paper.margin_mm - 2 * FRAME_INSET_MM
-    return inner - LOOP_HEAD_MM - (STATUS_MM if status else 0.0) - side_bottom_mm(revision_rows)
+    return inner - loop_head_mm(service) - (STATUS_MM if status else 0.0) - side_bottom_mm(revision_rows, title)
 
 
-SECTION_MM = 10.5
-"""A side-column section's heading, its rule and the space after the section."""
+SECTION_MM = 9.6
+"""A side-column section's heading, its rule and the space after the section (6.55 mm
+from heading to text and 3 mm after, rendered)."""
 
 
-def side_text_mm(texts: Sequence[str], headings: int, width_mm: float) -> float:
-    """Height of notes and findings set in the side column (body type, one paragraph
-    each, wrapped at the width less the list indent)."""
-    return headings * SECTION_MM + sum(BODY_LINE_MM * _lines(t, width_mm - 8.0) + 0.9 for t in texts)
+NOTE_INDENT_MM = 6.0
+"""Indent of the numbered notes (``sheet.css`` ``.notes ol``)."""
+
+
+def side_text_mm(texts: Sequence[str], headings: int, width_mm: float, findings: Sequence[str] = ()) -> float:
+    """Height of the notes (``texts``, numbered: wrapped at the width less the list
+    indent) and findings (paragraphs across the width) set in the side column (body type,
+    0.9 mm after each; within 1 mm of the rendered height on the example sheets)."""
+    return headings * SECTION_MM + sum(BODY_LINE_MM * _lines(t, width_mm - NOTE_INDENT_MM) + 0.9 for t in texts) \
+        + sum(BODY_LINE_MM * _lines(t, width_mm - 2.0) + 0.9 for t in findings)
 
 
 def sheet_layout(diagram_mm: tuple[float, float] | None, charts_mm: Sequence[tuple[float, float]],
@@ -382,8 +404,26 @@ def sheet_layout(diagram_mm: tuple[float, float] | None, charts_mm: Sequence[tup
              Placed(Box("side foot", SIDE_WIDTH_MM, side_foot_mm), side_x, box_h - side_foot_mm)]
     first = [Box(("diagram", 0), *diagram_mm, free_corner_mm=diagram_corner_mm)] if diagram_mm else []
     first += [Box(("chart", i), *size) for i, size in enumerate(charts_mm)]
-    rest = [Box(("table", i), t.width_mm, t.height_mm) for i, t in enumerate(tables)]
+    rest = [Box(("table", i), t.width_mm, t.height_mm, variants=tuple((v.width_mm, v.height_mm) for v in wider(t)))
+            for i, t in enumerate(tables)]
     return pack_pages(first, rest, side_x + SIDE_WIDTH_MM, box_h, taken=taken)
+
+
+WIDER_TABLES_MM = (70.0, 90.0, 110.0)
+"""Widths a table may be set at where it fits nowhere at its own: wider and lower, it may
+fit under a range chart or a wide table (``packing.place_any``)."""
+
+
+def wider(table: DisplayTable) -> list[DisplayTable]:
+    """The table set at each of ``WIDER_TABLES_MM`` that is wider than it is and lower
+    (the box variants of :func:`sheet_layout`, in order)."""
+    out: list[DisplayTable] = []
+    for width in WIDER_TABLES_MM:
+        variant = table.widened(width)
+        last = out[-1] if out else table
+        if variant.width_mm > last.width_mm and variant.height_mm < last.height_mm:
+            out.append(variant)
+    return out
 
 
 def sheet_html(pieces: SheetPieces, frame: SheetFrame) -> str:
@@ -426,7 +466,9 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     finding_texts += [f"{v['severity']}, accepted {v['rule']} ({v['tags']}): {v['message']} Accepted by "
                       f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
     tag_rows_mm = 3.9 * (1 + len(pieces.tags))
-    room = side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None)
+    title = title_text(pieces.loop.id, pieces.loop.service or "")
+    room = side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None,
+                        title, pieces.loop.service or "")
     # notes shared by several tables go to the sheet notes, unless the side column then
     # overflows (its tags, findings and notes would move under the drawing)
     own_notes = notes
@@ -434,9 +476,10 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
         calibrations, shared_notes = (share_notes(calibrations, len(own_notes) + 1) if share
                                       else (display_tables(pieces.calibrations), []))
         notes = [*own_notes, *shared_notes, *tag_notes(pieces.tags)]
-        side_texts = notes + finding_texts
         headings = 2 + bool(notes) + bool(accepted_views)
-        if side_text_mm(side_texts or ["-"], headings, SIDE_WIDTH_MM) + tag_rows_mm <= room:
+        # the findings section says "No open findings on this loop." when there is none
+        side_mm = side_text_mm(notes, headings, SIDE_WIDTH_MM, finding_texts or ["No open findings."]) + tag_rows_mm
+        if side_mm <= room:
             break
     tables = ([trips] if trips else []) + calibrations
     diagram, scale = None, 1.0
@@ -444,16 +487,23 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     if pieces.diagram_svg:
         diagram, scale = fit_svg(trusted_svg(pieces.diagram_svg), box_w, box_h)
     charts = [fit_svg(trusted_svg(svg), box_w, box_h)[0] for svg in pieces.range_charts_svg]
-    side_notes = side_text_mm(side_texts or ["-"], headings, SIDE_WIDTH_MM) + tag_rows_mm <= room
+    side_notes = side_mm <= room
     status = not_for_construction or release_reason is not None
-    side_top = LOOP_HEAD_MM + (STATUS_MM if status else 0.0) + (
-        side_text_mm(side_texts or ["-"], headings, SIDE_WIDTH_MM) + tag_rows_mm if side_notes else 0.0)
+    side_top = loop_head_mm(pieces.loop.service or "") + (STATUS_MM if status else 0.0) + (side_mm if side_notes else 0.0)
     corner = svg_free_corner_mm(diagram) if diagram and scale == 1.0 else None
+    foot = side_bottom_mm(len(revisions(tb, settings)), title)
     pages = sheet_layout(svg_size_mm(diagram) if diagram else None, [svg_size_mm(c) for c in charts], tables,
-                         settings, side_top, side_bottom_mm(len(revisions(tb, settings))), corner)
+                         settings, side_top, foot, corner)
     content = {"diagram": [Markup(diagram) if diagram else None], "chart": [Markup(c) for c in charts], "table": tables}
+
+    def item(p: Placed) -> Any:
+        kind, index = p.box.key
+        if kind == "table" and p.box.variant:
+            return wider(tables[index])[p.box.variant - 1]  # set wider where it fits so
+        return content[kind][index]
+
     page_views = [{"height_mm": round(used_height_mm([p for p in page if p.x_mm < box_w]), 1),
-                   "items": [{"kind": p.box.key[0], "item": content[p.box.key[0]][p.box.key[1]],
+                   "items": [{"kind": p.box.key[0], "item": item(p),
                               "x_mm": round(p.x_mm, 1), "y_mm": round(p.y_mm, 1),
                               "width_mm": round(p.box.width_mm, 1)} for p in page]}
                   for page in pages]
