@@ -32,7 +32,8 @@ test: $(TESTSTAMP)
 	$(PY) -m pytest -q loopdocs tests
 
 bench: $(TESTSTAMP)
-	$(PY) benchmarks/bench_check.py
+	$(PY) benchmarks/bench_check.py --memory
+	$(PY) benchmarks/scaling.py
 	$(PY) benchmarks/bench_build.py
 
 clean:
