@@ -93,6 +93,9 @@ def build(
     if result.removed:
         parts.append(f"{len(result.removed)} removed")
     typer.echo(f"{', '.join(parts)} in {result.seconds:.1f} s")
+    from loopdocs.render.pdf import subsetting_notes  # one line when fonts are subset the slow way
+    for note in subsetting_notes(result.rendered):
+        typer.echo(note)
     if result.package is not None:
         pages = f" ({result.package_pages} pages)" if result.package_pages else " (unchanged)"
         typer.echo(f"package: {result.package}{pages}")
@@ -106,16 +109,40 @@ def build(
 
 
 def _report_issue(result) -> None:  # noqa: ANN001
-    """What the issue did: the sheets issued with their revisions, or that nothing changed."""
+    """What the issue did: the sheets issued with their revisions, the sheets withdrawn,
+    one line per sheet issued for construction while marked NOT FOR CONSTRUCTION; or that
+    nothing changed."""
+    from loopdocs.model.revisions import STATUS_NOT_FOR_CONSTRUCTION, is_for_construction, revision_scheme
+
     if not result.issued:
         typer.echo("issue: no loop changed since its last issue; nothing issued, revision state left as it was")
         return
-    shown = ", ".join(f"{s.loop} {s.previous + ' -> ' if s.previous else ''}{s.revision}" for s in result.issued[:12])
-    more = f" and {len(result.issued) - 12} more" if len(result.issued) > 12 else ""
-    typer.echo(f"issued:  {len(result.issued)} sheet(s): {shown}{more}")
+    sheets = [s for s in result.issued if not s.withdrawn]
+    withdrawn = [s for s in result.issued if s.withdrawn]
+    if sheets:
+        shown = ", ".join(f"{s.loop} {s.previous + ' -> ' if s.previous else ''}{s.revision}" for s in sheets[:12])
+        more = f" and {len(sheets) - 12} more" if len(sheets) > 12 else ""
+        typer.echo(f"issued:  {len(sheets)} sheet(s): {shown}{more}")
+    if withdrawn:
+        shown = ", ".join(f"{s.loop} (last revision {s.revision})" for s in withdrawn[:12])
+        more = f" and {len(withdrawn) - 12} more" if len(withdrawn) > 12 else ""
+        typer.echo(f"withdrawn: {len(withdrawn)} sheet(s) of loops removed from the index: {shown}{more}")
+    purpose = result.state.loops[result.issued[0].loop].history[-1].purpose
+    if is_for_construction(purpose, revision_scheme(result.project.config.revisions)):
+        marked = [s for s in sheets if s.status == STATUS_NOT_FOR_CONSTRUCTION]
+        for s in marked[:MARKED_SHOWN]:
+            typer.echo(f"caution: {s.loop} revision {s.revision} issued '{purpose}' but marked NOT FOR CONSTRUCTION "
+                       f"(unresolved error findings; the transmittal says so)")
+        if len(marked) > MARKED_SHOWN:
+            typer.echo(f"caution: {len(marked) - MARKED_SHOWN} more sheet(s) issued marked NOT FOR CONSTRUCTION: "
+                       f"see the Status column of the transmittal")
     for path in result.transmittal:
         typer.echo(f"transmittal: {path}")
     typer.echo(f"revision state: {result.state_file}")
+
+
+MARKED_SHOWN = 20
+"""Sheets issued for construction while marked NOT FOR CONSTRUCTION named one a line; the rest counted."""
 
 
 class _progress:

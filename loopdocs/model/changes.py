@@ -20,6 +20,7 @@ from __future__ import annotations
 from collections import defaultdict
 from dataclasses import dataclass, field
 from enum import Enum
+from functools import cache
 from typing import Any
 
 from loopdocs.model.records import Project, Tag
@@ -122,6 +123,7 @@ def plain(value: Any) -> str:
     return str(value)
 
 
+@cache
 def _compared_keys() -> tuple[str, ...]:
     return tuple(k for k in Tag.model_fields if k not in _NOT_COMPARED)
 
@@ -163,8 +165,15 @@ def plain_cells(tag: Tag) -> dict[str, str]:
     """The compared cells of ``tag`` that are not blank, as text (:func:`plain`), by column
     key (unknown columns as ``extra:<header>``): a snapshot of the row that can be kept as
     plain text and compared later with :func:`cell_changes`."""
-    cells = {key: plain(value) for key, value in _cells(tag).items()}
-    return {key: text for key, text in cells.items() if text != ""}
+    cells = {}
+    for key in _compared_keys():
+        value = getattr(tag, key)
+        if value is not None and (text := plain(value)) != "":
+            cells[key] = text
+    for header, value in tag.extra.items():
+        if (text := plain(value)) != "":
+            cells[f"extra:{header}"] = text
+    return cells
 
 
 def cell_changes(old: dict[str, str], new: dict[str, str]) -> tuple[FieldChange, ...]:

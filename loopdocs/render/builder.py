@@ -139,8 +139,19 @@ def loop_settings(settings: SheetSettings, state: Any, loop_id: str) -> SheetSet
         rows = [Revision(rev=NOT_ISSUED, description="Not issued yet")]
     else:
         rows = [Revision(rev=h.rev, date=h.date, description=h.description, by=h.by, checked=h.checked,
-                         approved=h.approved) for h in loop.history]
+                         approved=h.approved) for h in loop.history if not h.withdrawn]
     return settings.model_copy(update={"revisions": rows})
+
+
+def sheet_status(findings: Sequence[Finding], settings: SheetSettings, loop_id: str) -> str:
+    """How a loop's sheet is issued (``loopdocs.model.revisions`` status words): '' when
+    it has no unaccepted error finding, ``errors released`` when the project file releases
+    it with errors, else ``not for construction`` (the sheet carries that mark)."""
+    from loopdocs.model.revisions import STATUS_NOT_FOR_CONSTRUCTION, STATUS_RELEASED
+
+    if not has_blocking_error(findings):
+        return ""
+    return STATUS_RELEASED if settings.release_reason(loop_id) is not None else STATUS_NOT_FOR_CONSTRUCTION
 
 
 @dataclass(frozen=True)
@@ -249,7 +260,9 @@ def build(
     project = checked.project
     settings = sheet_settings(project.config.sheet, paths.config_file)
     result = BuildResult(out_dir=out_dir, findings=list(checked.findings))
-    state, new_state = _revision_state(project, paths, loops, issue, issue_date, result)
+    findings_by_loop = loop_findings(checked.findings, project)
+    statuses = {loop_id: sheet_status(findings_by_loop[loop_id], settings, loop_id) for loop_id in project.loops}
+    state, new_state = _revision_state(project, paths, loops, issue, issue_date, result, statuses)
     result.state, result.project, result.settings = new_state, project, settings
 
     all_loops = list(project.loops)
@@ -269,7 +282,6 @@ def build(
         remove_partials(folder)
 
     names = unique_filenames(all_loops)
-    findings_by_loop = loop_findings(checked.findings, project)
     splits = _splits(checked)
     splits_by_loop: dict[str, list[Any]] = {}
     for group in splits:
@@ -321,9 +333,10 @@ def build(
 
 
 def _revision_state(project: Project, paths: Any, loops: Sequence[str], issue: str | None, issue_date: str | None,
-                    result: BuildResult) -> tuple[Any, Any]:
+                    result: BuildResult, statuses: dict[str, str]) -> tuple[Any, Any]:
     """The revision state as read from the project folder and as this build shows it
-    (after the issue, when ``issue`` is given; ``result.issued`` lists what it issues)."""
+    (after the issue, when ``issue`` is given; ``result.issued`` lists what it issues,
+    withdrawn sheets last). ``statuses``: loop -> its sheet's status (:func:`sheet_status`)."""
     from loopdocs.model.revisions import issue as issue_state, read_state, revision_scheme, RevisionState
 
     state = read_state(paths.folder)
@@ -333,7 +346,7 @@ def _revision_state(project: Project, paths: Any, loops: Sequence[str], issue: s
         raise InputError("--issue issues the whole project: leave out --loop")
     scheme = revision_scheme(project.config.revisions, paths.config_file)
     date = issue_date or _today()
-    new_state, issued = issue_state(state or RevisionState(), project, issue, date, scheme)
+    new_state, issued = issue_state(state or RevisionState(), project, issue, date, scheme, statuses)
     result.issued = issued
     return state, new_state
 
@@ -422,6 +435,7 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
     """Front matter (cached by content) and the joined package (rejoined when any part changed).
     With a revision state each sheet's line in the drawing list carries its own revision,
     and the cover lists the issues recorded in the state."""
+    from loopdocs.model.revisions import STATUS_NOT_FOR_CONSTRUCTION, STATUS_RELEASED
     from loopdocs.render.package import LIST_ROWS_PER_PART, ListRow, front_html, issue_rows, write_package
 
     tb = project.config.title_block
@@ -429,11 +443,10 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
     issues = issue_rows(state) if state is not None else None
     rows = []
     for number, loop_id in enumerate(all_loops, start=1):
-        blocked = has_blocking_error(findings_by_loop[loop_id])
-        released = blocked and settings.release_reason(loop_id) is not None
+        status = sheet_status(findings_by_loop[loop_id], settings, loop_id)
         rows.append(ListRow(number, drawing_number(tb.drawing_number, loop_id), loop_id,
                             project.loops[loop_id].service or "", result.revisions.get(loop_id) or revision,
-                            blocked and not released, released))
+                            status == STATUS_NOT_FOR_CONSTRUCTION, status == STATUS_RELEASED))
     counts = FindingCounts.of(findings)
     front_key = digest_json({
         "rows": [vars(r) for r in rows], "counts": counts.as_json(), "pdfa": pdfa,

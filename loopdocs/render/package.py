@@ -51,13 +51,18 @@ def issue_rows(state) -> list[Revision]:  # noqa: ANN001
     """The cover's revision table from a revision state (``loopdocs.model.revisions``): one
     row per issue (same date and purpose), the revisions it issued and how many sheets.
 
-    An issue of loops at different revisions shows them all ("B, 0").
+    An issue of loops at different revisions shows them all ("B, 0"); sheets withdrawn
+    at an issue (loops removed from the index) are counted apart ("3 sheets, 1 withdrawn").
     """
     from loopdocs.model.revisions import issue_summaries
 
-    return [Revision(rev=", ".join(i.revisions), date=i.date,
-                     description=f"{i.purpose} ({i.sheets} sheet{'s' if i.sheets != 1 else ''})")
-            for i in issue_summaries(state)]
+    rows = []
+    for i in issue_summaries(state):
+        counts = [f"{i.sheets} sheet{'s' if i.sheets != 1 else ''}"] if i.sheets else []
+        if i.withdrawn:
+            counts.append(f"{i.withdrawn} withdrawn")
+        rows.append(Revision(rev=", ".join(i.revisions), date=i.date, description=f"{i.purpose} ({', '.join(counts)})"))
+    return rows
 
 
 LIST_ROWS_PER_PART = 250
