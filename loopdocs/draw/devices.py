@@ -60,6 +60,7 @@ from loopdocs.draw.clusters import (
     bubble,
     fmt_number,
     label,
+    label_height,
     service_lines,
     stack_height,
     stack_lines,
@@ -659,11 +660,14 @@ def _accessory_label(kind: AccessoryKind, valve: Tag, accessory_tags: Mapping[Ac
 
 
 def _supply_line(drawing: Drawing, tag: Tag, entry_port: Point, horizontal_first: bool,
-                 regulator: bool, clear_x: float, min_end_y: float) -> tuple[float, float]:
+                 regulator: bool, clear_x: float, min_end_y: float,
+                 beside_top: float | None = None) -> tuple[float, float]:
     """The instrument air supply to the first pneumatic device, leaving ``entry_port``
     downwards (or first to the right), stepping right to ``clear_x`` when it starts left
     of it (clear of the valve's pipe), then down through the air filter regulator when
     there is one, ending in its ``IA`` label at ``min_end_y`` or lower (below the pipe).
+    With ``beside_top`` (and no regulator) the label stands right of the line's vertical
+    run from that height instead (the valve is then no taller than its symbols).
     Returns (lowest y drawn, x of the line's vertical run)."""
     x, y = entry_port
     points: list[Point] = [entry_port]
@@ -688,8 +692,12 @@ def _supply_line(drawing: Drawing, tag: Tag, entry_port: Point, horizontal_first
         end = (x, max(y + 2 * SUPPLY_DROP_MM, min_end_y))
         drawing.lines.append(SignalLine("pneumatic", tuple(points + [end]), "air-supply"))
     gap = LINE_HALF_WIDTH_MM["pneumatic"] + 0.4
-    texts = stack_lines(wrap_text(air_supply_text(tag), AIR_TEXT_WRAP_MM, TEXT_MM, balanced=True),
-                        end[0] - 1.0, end[1] + gap, "start", "air-supply")
+    lines = wrap_text(air_supply_text(tag), AIR_TEXT_WRAP_MM, TEXT_MM, balanced=True)
+    texts = stack_lines(lines, end[0] - 1.0, end[1] + gap, "start", "air-supply")
+    if beside_top is not None and not regulator:
+        right = stack_lines(lines, end[0] + gap + 0.2, beside_top, "start", "air-supply")
+        if _free_in(drawing, right, side_mm=0.5):
+            texts = right
     drawing.texts.extend(texts)
     return texts[-1].box.bottom, x
 
@@ -864,21 +872,34 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
             entry_port, across = max(ends, key=lambda p: p[1]), False
         pipe_points = [p for line in drawing.lines if line.role == "pipe" for p in line.points]
         clear_x = max(p[0] for p in pipe_points) + LINE_HALF_WIDTH_MM["pneumatic"] + 1.0
+        # right of the line: under the split setting that stands there (below)
+        beside_top = first.box.bottom + 0.8 + (label_height() + 0.4 if _split_setting_text(tag) else 0.0)
         supply_bottom, supply_x = _supply_line(drawing, tag, entry_port, across, regulator, clear_x,
-                                               max(p[1] for p in pipe_points) + 0.5)
+                                               max(p[1] for p in pipe_points) + 0.5, None if coil_first else beside_top)
     else:
         supply_bottom = y
     # the service beside the bubble, right of it, where nothing else is drawn (the
     # valve is as tall as its symbols); else under the valve data
     service = service_lines(tag, loop_service)
-    beside = stack_lines(service, placed_bubble.box.right + 1.0, placed_bubble.box.y, "start", "service")
-    # (above the row line, which leaves the cluster at y = 0 to the right)
-    if service and _free_in(drawing, beside) and max(t.box.bottom for t in beside) <= -ROW_LINE_CLEAR_MM:
+    extra = valve_text_lines(tag)
+
+    def beside_bubble(lines: list[str], role: str, top: float) -> list[PlacedText]:
+        # above the row line, which leaves the cluster at y = 0 to the right
+        texts = stack_lines(lines, placed_bubble.box.right + 1.0, top, "start", role)
+        fits = bool(lines) and _free_in(drawing, texts) and max(t.box.bottom for t in texts) <= -ROW_LINE_CLEAR_MM
+        return texts if fits else []
+
+    beside = beside_bubble(service, "service", placed_bubble.box.y)
+    if beside:
         drawing.texts += beside
         service = []
+        # size and Cv under the service, where they fit above the row line too
+        data = beside_bubble(extra, "valve-data", beside[-1].box.bottom + LINE_PITCH_MM - label_height())
+        if data:
+            drawing.texts += data
+            extra = []
     # size and Cv, area, interlock: under the fail position (below the air supply when
     # they would run into it)
-    extra = valve_text_lines(tag)
     if extra:
         # centred under the stem, or up to 3 mm to the left, clear of the air supply text
         lines = next((t for t in (stack_lines(extra, stem_x - dx, y, "middle", "valve-data") for dx in range(4))

@@ -60,8 +60,10 @@ def _overlaps(x: float, y: float, box: Box, other: Placed, gap_mm: float) -> boo
     corner = other.box.free_corner_mm
     if corner is not None and x >= other.x_mm + corner[0] + gap_mm - 1e-6 and y >= other.y_mm + corner[1] + gap_mm - 1e-6:
         return False
-    return (x < other.right_mm + gap_mm and other.x_mm < x + box.width_mm + gap_mm
-            and y < other.bottom_mm + gap_mm and other.y_mm < y + box.height_mm + gap_mm)
+    # 1 µm of slack: the candidate corners are rounded to 0.001 mm
+    eps = 1e-6
+    return (x < other.right_mm + gap_mm - eps and other.x_mm < x + box.width_mm + gap_mm - eps
+            and y < other.bottom_mm + gap_mm - eps and other.y_mm < y + box.height_mm + gap_mm - eps)
 
 
 def place(box: Box, placed: Sequence[Placed], width_mm: float, height_mm: float,
