@@ -135,9 +135,12 @@ def resolve_sheet_notes(shown: dict, notes: list[str]) -> dict:
         assert basis.startswith("Tolerance: "), basis
         caption = caption[:ref.start()] + f" ({basis.removeprefix('Tolerance: ').rstrip('.')})"
     own = list(shown["notes"])
-    if own and own[-1].startswith("see note"):
-        numbers = [int(n) for n in re.findall(r"\d+", own.pop())]
-        own += [notes[n - 1] for n in numbers]
+    # "see note 5" alone, or after the table's last note in brackets: "... (see note 5)"
+    ref = re.search(r"(?:^| \()see notes? ([\d, ]+)\)?$", own[-1]) if own else None
+    if ref:
+        numbers = [int(n) for n in re.findall(r"\d+", ref.group(1))]
+        own[-1] = own[-1][:ref.start()]
+        own = [n for n in own if n] + [notes[n - 1] for n in numbers]
     return {**shown, "caption": caption, "notes": own}
 
 

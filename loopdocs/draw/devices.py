@@ -873,7 +873,7 @@ def valve_cluster(tag: Tag, loop_service: str | None, body: BodyKind | None = No
         pipe_points = [p for line in drawing.lines if line.role == "pipe" for p in line.points]
         clear_x = max(p[0] for p in pipe_points) + LINE_HALF_WIDTH_MM["pneumatic"] + 1.0
         # right of the line: under the split setting that stands there (below)
-        beside_top = first.box.bottom + 0.8 + (label_height() + 0.4 if _split_setting_text(tag) else 0.0)
+        beside_top = first.box.bottom + 0.8 + (label_height() + 1.2 if _split_setting_text(tag) else 0.0)
         supply_bottom, supply_x = _supply_line(drawing, tag, entry_port, across, regulator, clear_x,
                                                max(p[1] for p in pipe_points) + 0.5, None if coil_first else beside_top)
     else:

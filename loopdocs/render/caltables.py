@@ -72,6 +72,17 @@ class DisplayTable:
             return ""
         return f"see note{'s' if len(self.note_refs) > 1 else ''} {', '.join(str(n) for n in self.note_refs)}"
 
+    @property
+    def foot_lines(self) -> tuple[str, ...]:
+        """The notes printed under the table: its own, the last followed by the
+        reference to the sheet notes in brackets (``... (see note 5)``), or the
+        reference alone."""
+        if not self.refs_text:
+            return tuple(self.notes)
+        if not self.notes:
+            return (self.refs_text,)
+        return (*self.notes[:-1], f"{self.notes[-1]} ({self.refs_text})")
+
     def align(self, column: int) -> str:
         """``text`` or ``num``: the CSS class of a column's cells."""
         return "text" if column in self.text_columns else "num"
@@ -126,7 +137,7 @@ class DisplayTable:
             caption += line * len(wrap_text(f"tolerance {self.tolerance}", self.width_mm, TABLE_TEXT_MM))
         head_lines = max((len(wrap_text(h, w - CELL_PAD_MM + 0.2, TABLE_TEXT_MM, bold=True))
                           for h, w in zip(self.heads, self.column_widths_mm)), default=1)
-        foot = [*self.notes, self.refs_text] if self.refs_text else list(self.notes)
+        foot = self.foot_lines
         notes = sum(len(wrap_text(n, inner, TABLE_TEXT_MM)) for n in foot) * line + (rule if foot else 0.0)
         return round(caption + head_lines * line + rule + len(self.rows) * (line + rule) + notes + SPARE_MM, 1)
 
