@@ -73,6 +73,12 @@ class DisplayTable:
         return f"see note{'s' if len(self.note_refs) > 1 else ''} {', '.join(str(n) for n in self.note_refs)}"
 
     @property
+    def tag_parts(self) -> tuple[str, ...]:
+        """The tag heading the caption in words (``PV-1A,``, ``PV-1B``): the caption may
+        break between them, never inside one (at the hyphen of a tag)."""
+        return tuple(self.tag.split())
+
+    @property
     def foot_lines(self) -> tuple[str, ...]:
         """The notes printed under the table: its own, the last followed by the
         reference to the sheet notes in brackets (``... (see note 5)``), or the
@@ -127,12 +133,13 @@ class DisplayTable:
         line = TABLE_TEXT_MM * LINE_HEIGHT
         rule = ROW_PAD_MM
         inner = max(self.width_mm - CELL_PAD_MM, 10.0)
-        tag_mm = text_width_mm(self.tag + " ", CAPTION_TAG_MM, bold=True)
-        # the tag in larger type heads the first line: a word as wide stands in for it
-        # (wrap_text drops leading spaces)
-        stand_in = "n" * math.ceil(tag_mm / text_width_mm("n", TABLE_TEXT_MM))
-        title_lines = wrap_text(f"{stand_in} {self.title}", self.width_mm, TABLE_TEXT_MM) if self.title else [""]
-        caption = CAPTION_TAG_MM * LINE_HEIGHT + line * (len(title_lines) - 1) + 0.6
+        # the tag in larger type heads the caption, each of its words unbroken: a word as
+        # wide stands in for each (wrap_text drops leading spaces)
+        n_mm = text_width_mm("n", TABLE_TEXT_MM)
+        stand_ins = ["n" * math.ceil(text_width_mm(part, CAPTION_TAG_MM, bold=True) / n_mm) for part in self.tag_parts]
+        title_lines = wrap_text(" ".join([*stand_ins, self.title]), self.width_mm, TABLE_TEXT_MM)
+        tag_lines = sum(1 for text in title_lines if "nnn" in text) or 1
+        caption = CAPTION_TAG_MM * LINE_HEIGHT * tag_lines + line * (len(title_lines) - tag_lines) + 0.6
         if self.tolerance:
             caption += line * len(wrap_text(f"tolerance {self.tolerance}", self.width_mm, TABLE_TEXT_MM))
         head_lines = max((len(wrap_text(h, w - CELL_PAD_MM + 0.2, TABLE_TEXT_MM, bold=True))
