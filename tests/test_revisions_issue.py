@@ -37,7 +37,7 @@ from loopdocs.model.revisions import (STATUS_NOT_FOR_CONSTRUCTION, STATUS_RELEAS
 from loopdocs.render.builder import loop_settings
 from loopdocs.render.package import issue_rows
 from loopdocs.render.settings import SheetSettings
-from loopdocs.sheets.transmittal import transmittal_rows, write_transmittal_xlsx
+from loopdocs.sheets.transmittal import transmittal_facts, transmittal_rows, write_transmittal_xlsx
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from test_revisions import CTRL, LOOPS3, PT, TT, TV, one_line, set_cells, steady_code, write_project  # noqa: E402, F401
 
@@ -61,7 +61,7 @@ def test_loop_removed_from_the_index_is_withdrawn_once_and_continues_on_return(i
     assert second.loops["T-101"] == first.loops["T-101"]  # unchanged loop: not issued again
     summary = issue_summaries(second)[-1]
     assert (summary.date, summary.sheets, summary.withdrawn, summary.revisions) == ("2026-12-08", 0, 1, ())
-    assert issue_rows(second)[-1].description == "Issued for construction (1 withdrawn)"
+    assert (issue_rows(second)[-1].rev, issue_rows(second)[-1].description) == ("-", "Issued for construction (1 withdrawn)")
 
     # withdrawn once: the next issue without the loop lists nothing
     third, issued = issue(second, without, "Issued for construction", "2026-12-09")
@@ -109,6 +109,20 @@ def test_status_change_alone_issues_the_sheet_again(index_files):
 
 
 # --- the command and the transmittal ------------------------------------------------------
+
+def test_transmittal_rows_show_each_status_and_the_head_counts_them(index_files):
+    rows = [CTRL, TT, TV, PT, {**PT, "tag": "PT-301"}]
+    project = check_project(index_files.write(rows)).project
+    status = {"T-101": STATUS_NOT_FOR_CONSTRUCTION, "P-201": STATUS_RELEASED}
+    state, issued = issue(RevisionState(), project, "Issued for construction", "2026-12-01", status=status)
+    listed = transmittal_rows(project, issued, state)
+    assert [(r.loop, r.revision, r.status) for r in listed] == [
+        ("P-201", "0", "issued, errors released"), ("P-301", "0", ""), ("T-101", "0", "NOT FOR CONSTRUCTION")]
+    facts = dict(transmittal_facts(project, listed))
+    assert facts["Sheets issued"] == "3" and facts["Marked NOT FOR CONSTRUCTION"] == "1"
+    assert facts["Issued with errors released in the project configuration"] == "1"
+    assert "Sheets withdrawn" not in facts  # a count of zero is left out
+
 
 def fail_open(row):
     """LV-2105 is air to open; failing open contradicts its spring (an error finding)."""

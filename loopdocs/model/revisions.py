@@ -372,7 +372,7 @@ def issue(state: RevisionState, project: Project, purpose: str, date: str,
         else:
             lines, items = loop_changes(old.rows, rows)
             if now != old.status:
-                lines.insert(0, _STATUS_CHANGE[(old.status, now)])
+                lines.insert(0, _STATUS_CHANGE.get((old.status, now), f"Issued {now or 'without errors'}"))
             if old.withdrawn:
                 lines.insert(0, f"Back in the index (sheet withdrawn {old.history[-1].date})")
         entry = HistoryEntry(rev, date, purpose, capped(lines, scheme.changes_listed), *signed)

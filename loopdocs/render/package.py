@@ -52,7 +52,8 @@ def issue_rows(state) -> list[Revision]:  # noqa: ANN001
     row per issue (same date and purpose), the revisions it issued and how many sheets.
 
     An issue of loops at different revisions shows them all ("B, 0"); sheets withdrawn
-    at an issue (loops removed from the index) are counted apart ("3 sheets, 1 withdrawn").
+    at an issue (loops removed from the index) are counted apart ("3 sheets, 1 withdrawn");
+    an issue that only withdrew sheets shows the revision ``-``.
     """
     from loopdocs.model.revisions import issue_summaries
 
@@ -61,7 +62,8 @@ def issue_rows(state) -> list[Revision]:  # noqa: ANN001
         counts = [f"{i.sheets} sheet{'s' if i.sheets != 1 else ''}"] if i.sheets else []
         if i.withdrawn:
             counts.append(f"{i.withdrawn} withdrawn")
-        rows.append(Revision(rev=", ".join(i.revisions), date=i.date, description=f"{i.purpose} ({', '.join(counts)})"))
+        rows.append(Revision(rev=", ".join(i.revisions) or "-", date=i.date,
+                             description=f"{i.purpose} ({', '.join(counts)})"))
     return rows
 
 
