@@ -25,10 +25,12 @@ from loopdocs.model.vocab import Location, Platform, Transfer
 # --------------------------------------------------------------------------- sizes, mm
 
 TEXT_MM = 3.43
-"""Font size of every label (the bubble text areas of the symbol library are drawn for it)."""
+"""Font size of every label: 2.5 mm capitals (DejaVu Sans capitals are 0.729 em), the
+lettering ISO 3098 asks of an A3 drawing (from memory). A tag number wider than its
+bubble's text area is squeezed to it (SVG ``textLength``), its height kept."""
 TITLE_MM = 3.5
 LINE_PITCH_MM = 4.4
-"""Baseline to baseline of wrapped lines."""
+"""Baseline to baseline of wrapped lines (1.28 x the type)."""
 ENCLOSURE_PAD_MM = 2.0
 SERVICE_WRAP_MM = 36.0
 PIPE_STUB_MM = 5.0
