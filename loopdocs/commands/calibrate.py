@@ -68,7 +68,7 @@ def calibrate(
             if not cset.tables and not cset.skipped:
                 raise InputError(f"no tag or loop matches {', '.join(tag)}")
         if out is not None:
-            from loopdocs.core.files import refuse_overwriting
+            from loopdocs.core.files import interrupt_on_terminate, refuse_overwriting, remove_stale_partials
             from loopdocs.read.project_file import locate
             from loopdocs.sheets.technicians_workbook import write_workbook
 
@@ -78,7 +78,9 @@ def calibrate(
             refuse_overwriting(out, [paths.index, *([paths.config_file] if paths.config_file else [])])
 
             try:
-                counts = write_workbook(cset, out, sheet_per=sheet_per.value)
+                remove_stale_partials(out)  # left by an earlier run killed mid-write (kill -9)
+                with interrupt_on_terminate():  # SIGTERM as Ctrl-C: the temporary file is removed
+                    counts = write_workbook(cset, out, sheet_per=sheet_per.value)
             except OSError as exc:
                 raise InputError(f"{out}: cannot be written ({exc.strerror or exc})") from None
     except InputError as exc:

@@ -29,6 +29,13 @@ from collections.abc import Iterable
 
 MAX_NAME_CHARS = 64
 HASH_CHARS = 8
+#: Invisible characters that change the order text is shown in without showing themselves
+#: (Unicode Standard Annex #9, Bidirectional Algorithm: the embeddings and overrides
+#: U+202A-U+202E and isolates U+2066-U+2069 of its section 2, the implicit marks LRM U+200E,
+#: RLM U+200F and ALM U+061C of section 2.6). ``T-1<RLO>fdp.exe`` shows as ``T-1exe.pdf``.
+#: They never reach a file name or a workbook sheet name.
+BIDI_CONTROLS = "\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069"
+_BIDI = re.compile(f"[{BIDI_CONTROLS}]")
 _ALLOWED = re.compile(r"[^A-Za-z0-9._-]+")
 _WINDOWS_RESERVED = frozenset(
     {"CON", "PRN", "AUX", "NUL", "CONIN$", "CONOUT$"}
@@ -43,9 +50,19 @@ def _digest(text: str) -> str:
     return hashlib.sha256(text.encode("utf-8")).hexdigest()[:HASH_CHARS]
 
 
+def without_bidi_controls(text: str) -> str:
+    """``text`` without the direction controls of ``BIDI_CONTROLS`` (dropped, not replaced).
+
+    >>> without_bidi_controls("T-1\u202efdp.exe")
+    'T-1fdp.exe'
+    """
+    return _BIDI.sub("", text)
+
+
 def _clean(text: str) -> str:
-    # Letters with accents keep their base letter (Ü -> U); anything else not allowed -> _.
-    decomposed = unicodedata.normalize("NFKD", text)
+    # Direction controls dropped; letters with accents keep their base letter (Ü -> U);
+    # anything else not allowed -> _.
+    decomposed = unicodedata.normalize("NFKD", without_bidi_controls(text))
     ascii_text = "".join(ch for ch in decomposed if not unicodedata.combining(ch))
     name = _ALLOWED.sub("_", ascii_text)
     name = name.lstrip(".-").rstrip(".")

@@ -25,6 +25,7 @@ from functools import lru_cache
 from typing import Any, Iterable
 
 from loopdocs.core.findings import Finding, Location, Severity
+from loopdocs.core.names import BIDI_CONTROLS
 from loopdocs.model.records import Loop, Project, Tag
 from loopdocs.model.tagname import TagKind, TagParts, compile_tag_pattern, parse_tag, tag_kind
 from loopdocs.model.vocab import LIST_VOCAB_COLUMNS, VOCAB_COLUMNS
@@ -37,7 +38,7 @@ _NUMBER_TEXT = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?")
 
 #: Characters no sheet, drawing or workbook can carry: control characters (XML 1.0 forbids
 #: them) and the bidirectional overrides that make text read other than it is stored.
-_UNPRINTABLE = re.compile("[\x00-\x08\x0b\x0c\x0e-\x1f\x7f\u202a-\u202e\u2066-\u2069]")
+_UNPRINTABLE = re.compile(f"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f{BIDI_CONTROLS}]")
 
 
 #: Longest text kept from one cell (a Service or Notes cell runs to a few hundred characters;

@@ -30,8 +30,13 @@ with ``os._exit`` (an interrupted build, for ``tests/test_build.py``).
 
 from __future__ import annotations
 
+import errno
+import functools
 import json
 import os
+import signal
+import sys
+import threading
 import time
 from collections.abc import Callable, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
@@ -42,7 +47,7 @@ from typing import Any
 
 from loopdocs.core.errors import InputError
 from loopdocs.core.files import remove_inside, remove_partials, shareable
-from loopdocs.core.files import atomic_write
+from loopdocs.core.files import atomic_write, folder_lock, interrupt_on_terminate
 from loopdocs.core.findings import Finding, FindingCounts
 from loopdocs.model.records import Project
 from loopdocs.render.cache import CACHE_DIR_NAME, Manifest, digest_json, environment_digest, loop_key
@@ -56,6 +61,11 @@ FRAGMENTS_DIR = "fragments"
 SHEETS_PER_PROCESS = 100
 """Sheets a worker process renders before it is replaced (memory stays flat)."""
 CRASH_ENV = "LOOPDOCS_TEST_CRASH_LOOP"
+LOCK_WAIT_S = 5.0
+"""How long a build waits for another build writing the same output folder before refusing."""
+MANIFEST_SAVE_S = 1.0
+"""The cache manifest is saved as sheets finish, at most once per this many seconds (a killed
+build keeps the sheets finished before its last save; 3,000 sheets do not write 3,000 manifests)."""
 SOURCE_DIR = Path(__file__).resolve().parent.parent
 
 
@@ -171,10 +181,44 @@ class Job:
 _STATE: dict[str, Any] = {}
 
 
+_PARENT_PID = 0
+"""The build process, set before its workers are forked (they inherit it)."""
+
+
+def _die_with_parent(parent_pid: int) -> None:
+    """End this worker when the build process that started it ends, even by SIGKILL: on
+    Linux the kernel sends SIGKILL on the parent's death (``prctl(PR_SET_PDEATHSIG)``,
+    prctl(2)); elsewhere a daemon thread polls the parent's id once a second. A parent
+    already gone before this ran ends the worker at once."""
+    armed = False
+    if sys.platform.startswith("linux"):
+        try:
+            import ctypes
+
+            PR_SET_PDEATHSIG = 1
+            libc = ctypes.CDLL(None, use_errno=True)
+            armed = libc.prctl(PR_SET_PDEATHSIG, signal.SIGKILL, 0, 0, 0) == 0
+        except (OSError, AttributeError):
+            armed = False
+    if os.getppid() != parent_pid:
+        os._exit(1)
+    if not armed:
+        def watch() -> None:
+            while os.getppid() == parent_pid:
+                time.sleep(1.0)
+            os._exit(1)
+
+        threading.Thread(target=watch, name="loopdocs-parent-watch", daemon=True).start()
+
+
 def _init_worker(checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool) -> None:
-    """Pool initializer: keep the checked project for every job of this process."""
+    """Pool initializer: die with the build process; keep the checked project for every job
+    of this process."""
     from loopdocs.render.pdf import quiet_weasyprint
 
+    if _PARENT_PID and os.getpid() != _PARENT_PID:  # a forked worker, not the build process itself
+        signal.signal(signal.SIGTERM, signal.SIG_DFL)  # the build's own handler is for the build
+        _die_with_parent(_PARENT_PID)
     quiet_weasyprint()
     _STATE.clear()
     _STATE.update(checked=checked, settings=settings, project_dir=project_dir, pdfa=pdfa)
@@ -225,6 +269,30 @@ def _default_workers() -> int:
     return os.cpu_count() or 1
 
 
+def _one_writer(run: Callable[..., BuildResult]) -> Callable[..., BuildResult]:
+    """Around :func:`build`: the output folder locked for this build (``folder_lock``: a
+    second build into it waits ``LOCK_WAIT_S`` seconds, then is refused in one line naming
+    the other process), SIGTERM ending the build as Ctrl-C does (finished sheets recorded, no
+    ``.part`` left), and a folder that cannot be written refused in one line."""
+
+    @functools.wraps(run)
+    def locked(path: Path, out_dir: Path, *args: Any, **kwargs: Any) -> BuildResult:
+        out_dir = Path(out_dir)
+        try:
+            out_dir.mkdir(parents=True, exist_ok=True)
+            with interrupt_on_terminate(), folder_lock(out_dir, wait_s=LOCK_WAIT_S):
+                return run(path, out_dir, *args, **kwargs)
+        except OSError as exc:
+            if exc.errno not in (errno.EACCES, errno.EPERM, errno.EROFS):
+                raise
+            where = exc.filename or out_dir
+            raise InputError(f"{where}: cannot be written ({exc.strerror or exc}); "
+                             f"build into a folder you can write") from None
+
+    return locked
+
+
+@_one_writer
 def build(
     path: Path,
     out_dir: Path,
@@ -363,17 +431,19 @@ def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir:
     """Render ``jobs``, recording each finished sheet in the manifest as it lands."""
     total = len(jobs)
     done = 0
+    last_save = time.monotonic()
 
     def finished(job: Job, seconds: float) -> None:
-        nonlocal done
+        nonlocal done, last_save
         result.render_seconds[job.loop_id] = seconds
         manifest.record(job.loop_id, job.key, job.path)
         result.rendered.append(job.loop_id)
         done += 1
         if progress:
             progress(done, total, job.loop_id)
-        if done % 100 == 0:
+        if time.monotonic() - last_save >= MANIFEST_SAVE_S:
             manifest.save()
+            last_save = time.monotonic()
 
     if not jobs:
         return
@@ -407,6 +477,8 @@ def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, res
     ``SHEETS_PER_PROCESS`` sheets, then the pool is shut down: the C libraries under
     weasyprint keep about 0.25 MB per sheet rendered, so long-lived workers would grow
     with the number of loops)."""
+    global _PARENT_PID
+    _PARENT_PID = os.getpid()
     with ProcessPoolExecutor(max_workers=count, mp_context=context, initializer=_init_worker, initargs=initargs) as pool:
         pending: dict[Future, Job] = {pool.submit(render_job, job): job for job in jobs}
         try:
@@ -416,6 +488,10 @@ def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, res
                     job = pending.pop(future)
                     try:
                         _, seconds = future.result()
+                    except OSError as exc:
+                        if exc.errno in (errno.EACCES, errno.EPERM, errno.EROFS):
+                            raise  # the output folder cannot be written: one line, see _one_writer
+                        raise BuildError(f"loop {job.loop_id}: the sheet could not be written ({exc})") from exc
                     except BrokenProcessPool:
                         raise BuildError(f"a rendering process died while building loop {job.loop_id}; "
                                          f"{len(result.rendered)} sheet(s) finished and kept, run the build again") from None

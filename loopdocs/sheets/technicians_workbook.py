@@ -84,7 +84,9 @@ _BAD_SHEET_CHARS = re.compile(r"[\[\]:*?/\\]")
 
 
 def _sheet_name(key: str, used: set[str]) -> str:
-    base = _BAD_SHEET_CHARS.sub("-", key).strip("'")[:28] or "Sheet"
+    from loopdocs.core.names import without_bidi_controls
+
+    base = _BAD_SHEET_CHARS.sub("-", without_bidi_controls(key)).strip("'")[:28] or "Sheet"
     if base in (RECORD_SHEET, CONTENTS_SHEET):
         base = f"{base}-1"
     name, n = base, 2
