@@ -154,6 +154,8 @@ class ProjectConfig(BaseModel):
     accept: list[AcceptedFinding] = Field(default_factory=list)
     sheet: dict[str, Any] = Field(default_factory=dict)
     """Loop-sheet settings (paper size and the like), read by the renderer."""
+    revisions: dict[str, Any] = Field(default_factory=dict)
+    """Revision sequence of ``build --issue``, read by ``loopdocs.model.revisions``."""
 
 
 CONFIG_NAME = "loopdocs.toml"
