@@ -57,7 +57,9 @@ def time_build(index: Path) -> dict:
         run = subprocess.run([PYTHON, "-c", BUILD_CHILD, str(source), str(Path(folder) / "out")],
                              capture_output=True, text=True, cwd=ROOT)
     if run.returncode not in (0, 1) or not run.stdout.strip():
-        raise SystemExit(f"build failed: {run.stderr[-2000:]}")
+        last = (run.stderr.strip().splitlines() or ["no output"])[-1]
+        print(f"build failed: {last}", flush=True)
+        return {"failed": last}
     return json.loads(run.stdout.strip().splitlines()[-1])
 
 
@@ -67,7 +69,9 @@ def table(rows: list[dict], build_loops: int) -> str:
         "|---:|---:|---:|---:|---:|---:|---:|---:|---:|",
     ]
     for r in rows:
-        if r.get("build"):
+        if r.get("build", {}).get("failed"):
+            build_s, build_mb = "failed when last run", "-"
+        elif r.get("build"):
             b = r["build"]
             build_s = f"{b['wall_s']:.1f} ({b['wall_s'] / max(b['sheets'], 1):.2f} a sheet)"
             build_mb = f"{b['main_mb']:.0f} / {b['worker_mb']:.0f}"
@@ -111,8 +115,8 @@ def main() -> None:
             row["build"] = time_build(path)
         rows.append(row)
         print(f"{n} loops: check {row['check_s']:.2f} s {row['check_mb']:.0f} MB, floor {row['floor_s']:.2f} s "
-              f"{row['floor_mb']:.0f} MB" + (f", build {row['build']['wall_s']:.1f} s" if "build" in row else ""), flush=True)
-    built = [r["build"] for r in rows if r.get("build")]
+              f"{row['floor_mb']:.0f} MB", flush=True)
+    built = [r["build"] for r in rows if r.get("build") and not r["build"].get("failed")]
     path_note = ""
     if built:
         path_note = (" Fonts were subset with " + ("the HarfBuzz subsetting library." if built[0]["harfbuzz"]
