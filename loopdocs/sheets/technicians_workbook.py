@@ -138,6 +138,9 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     """Write the workbook for ``cset`` to ``path`` atomically; returns rows per sheet.
 
     ``sheet_per`` is ``loop`` (one sheet per loop) or ``area`` (per plant area prefix).
+    The workbook is streamed (openpyxl write-only mode): each sheet's rows go to disk as
+    they are made and the sheet is closed before the next, so memory does not grow with
+    the number of test points (10,000 loops within a minute; ``benchmarks/bench_workbook.py``).
     """
     from openpyxl import Workbook
     from openpyxl.formatting.rule import FormulaRule
@@ -148,7 +151,7 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
 
     from loopdocs.core.wording import CAUTION
     from loopdocs.core.files import atomic_write
-    from loopdocs.sheets.cells import keep_as_text
+    from loopdocs.sheets.cells import cell_style, streamed_cell
 
     if sheet_per not in ("loop", "area"):
         raise ValueError(f"sheet_per must be loop or area, got {sheet_per!r}")
@@ -161,17 +164,16 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     if any("calibrator" in placed for placed in placements):
         columns.append(CALIBRATOR)
     columns += ["Expected", "Unit", "Low limit", "High limit", "As-Found", "As-Left", "Remarks"]
+    n_cols = len(columns)
     col = {name: i + 1 for i, name in enumerate(columns)}
     sim_col = {"main": col[SIMULATE], "rj": col.get(f"Simulate, RJ {rj:g} degC") if rj is not None else None,
                "calibrator": col.get(CALIBRATOR)}
     widths = {"Ref": 12, "Tag": 12, "Check": 11, "Point": 9, "Dir": 8, "Apply": 14, SIMULATE: 13, CALIBRATOR: 13,
               "Expected": 12, "Unit": 9, "Low limit": 11, "High limit": 11, "As-Found": 12, "As-Left": 12,
               "Remarks": 28}
-    last_col = get_column_letter(len(columns))
+    last_col = get_column_letter(n_cols)
 
-    wb = Workbook()
-    contents = wb.active
-    contents.title = CONTENTS_SHEET
+    wb = Workbook(write_only=True)
     thin = Side(style="thin", color="808080")
     box = Border(left=thin, right=thin, top=thin, bottom=thin)
     bold = Font(bold=True)
@@ -181,61 +183,87 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     header_fill = PatternFill("solid", fgColor=_FILL_HEADER)
     green = PatternFill("solid", fgColor="C6EFCE")
     red = PatternFill("solid", fgColor="FFC7CE")
+    # the borders a merged range gives the cells on its edges (openpyxl MergedCellRange.format)
+    merged_right = Border(top=thin, bottom=thin, right=thin)
+    merged_middle = Border(top=thin, bottom=thin)
 
-    # group tables into sheets, in the order the set gives them
+    # group tables into sheets, in the order the set gives them; names and counts first,
+    # since the contents sheet (the first) lists them
     groups: dict[str, list[tuple[CalibrationTable, TableView, dict[str, int]]]] = {}
     for table, view, placed in zip(cset.tables, views, placements):
         groups.setdefault(_sheet_key(table, cset, sheet_per), []).append((table, view, placed))
-
     used: set[str] = {CONTENTS_SHEET.lower(), RECORD_SHEET.lower()}
-    issued: list[IssuedRow] = []
-    counts: dict[str, int] = {}
+    names = {key: _sheet_name(key, used) for key in groups}
+    counts = {names[key]: sum(len(view.readings) for _, view, _ in tables) for key, tables in groups.items()}
+
+    contents = wb.create_sheet(CONTENTS_SHEET)
+    _write_contents(contents, cset, counts, sheet_per, rj, bold, PageSetupProperties)
+    record = _start_record(wb, cset)
+
+    def cell(ws: Any, value: Any = None, **style: Any) -> Any:
+        return streamed_cell(ws, value, **style)
+
+    styles: dict[tuple, Any] = {}
+
+    def styled(ws: Any, value: Any, kind: str, number_format: str | None = None) -> Any:
+        """A cell of a test row or a table title row, its style made once per kind."""
+        key = (kind, number_format)
+        if key not in styles:
+            attrs: dict[str, Any] = {"title": {"fill": title_fill}, "box": {"border": box},
+                                     "input": {"border": box, "protection": unlocked, "fill": input_fill}}[kind]
+            styles[key] = cell_style(ws, **attrs, **({"number_format": number_format} if number_format else {}))
+        return streamed_cell(ws, value, styles[key])
+
     for key, tables in groups.items():
-        name = _sheet_name(key, used)
+        name = names[key]
         ws = wb.create_sheet(name)
-        service = cset.loop_services.get(key, "") if sheet_per == "loop" else ""
-        ws["A1"] = f"Calibration: {'loop' if sheet_per == 'loop' else 'area'} {key}" + (f"  {service}" if service else "")
-        ws["A1"].font = Font(bold=True, size=14)
-        ws["A2"] = f"{cset.project}  |  index {Path(cset.index_path).name}" + (f", revision {cset.revision}" if cset.revision else "")
-        ws["A3"] = "CAUTION: " + CAUTION
-        ws["A3"].font = Font(bold=True, color="C00000")
-        ws["A3"].alignment = Alignment(wrap_text=True, vertical="top")
-        ws.merge_cells(f"A3:{last_col}3")
-        ws.row_dimensions[3].height = 30
-        ws.merge_cells(f"A1:{last_col}1")
-        ws.merge_cells(f"A2:{last_col}2")
-        # technician, date, calibrator
-        for label, label_col, value_col in (("Technician", 1, 2), ("Date", 4, 5), ("Calibrator, serial, cal. due", 7, 9)):
-            ws.cell(4, label_col, label).font = bold
-            cell = ws.cell(4, value_col)
-            cell.protection = unlocked
-            cell.fill = input_fill
-            cell.border = box
-        ws.merge_cells(start_row=4, start_column=2, end_row=4, end_column=3)
-        ws.merge_cells(start_row=4, start_column=9, end_row=4, end_column=len(columns))
+        # what is written before the rows: column widths, row heights, panes, page setup
         for name_, c in col.items():
-            cell = ws.cell(HEADER_ROW, c, name_)
-            cell.font = bold
-            cell.fill = header_fill
-            cell.border = box
-            cell.alignment = Alignment(horizontal="center", vertical="center", wrap_text=True)
             ws.column_dimensions[get_column_letter(c)].width = widths.get(name_, 14)
+        ws.row_dimensions[3].height = 30
         ws.row_dimensions[HEADER_ROW].height = 30
+        ws.freeze_panes = f"{get_column_letter(col['Check'])}{FIRST_ROW}"
+        _page_setup(ws, cset, PageSetupProperties)
+
+        def merge(row: int, first: int, last: int) -> None:
+            ws.merged_cells.add(f"{get_column_letter(first)}{row}:{get_column_letter(last)}{row}")
+
+        service = cset.loop_services.get(key, "") if sheet_per == "loop" else ""
+        ws.append([cell(ws, f"Calibration: {'loop' if sheet_per == 'loop' else 'area'} {key}" + (f"  {service}" if service else ""),
+                        font=Font(bold=True, size=14))])
+        ws.append([cell(ws, f"{cset.project}  |  index {Path(cset.index_path).name}"
+                        + (f", revision {cset.revision}" if cset.revision else ""))])
+        ws.append([cell(ws, "CAUTION: " + CAUTION, font=Font(bold=True, color="C00000"),
+                        alignment=Alignment(wrap_text=True, vertical="top"))])
+        for row in (3, 1, 2):
+            merge(row, 1, n_cols)
+        # technician, date, calibrator: labels, and input cells (merged B:C and I:last)
+        tech: list[Any] = [None] * n_cols
+        for label, label_col, value_col in (("Technician", 1, 2), ("Date", 4, 5), ("Calibrator, serial, cal. due", 7, 9)):
+            tech[label_col - 1] = cell(ws, label, font=bold)
+            tech[value_col - 1] = cell(ws, protection=unlocked, fill=input_fill, border=box)
+        tech[2] = cell(ws, protection=unlocked, border=merged_right)
+        for c in range(10, n_cols + 1):
+            tech[c - 1] = cell(ws, protection=unlocked, border=merged_right if c == n_cols else merged_middle)
+        ws.append(tech)
+        merge(4, 2, 3)
+        merge(4, 9, n_cols)
+        ws.append([])
+        ws.append([cell(ws, name_, font=bold, fill=header_fill, border=box,
+                        alignment=Alignment(horizontal="center", vertical="center", wrap_text=True)) for name_ in col])
 
         r = FIRST_ROW
-        n_points = 0
         value_ranges: dict[tuple[float, float, str], list[str]] = {}
         for table, view, placed in tables:
-            ws.cell(r, 1, _title_text(view)).font = bold
-            ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=len(columns))
-            for c in range(1, len(columns) + 1):
-                ws.cell(r, c).fill = title_fill
+            ws.append([cell(ws, _title_text(view), font=bold, fill=title_fill)]
+                      + [styled(ws, None, "title") for _ in range(n_cols - 1)])
+            merge(r, 1, n_cols)
             r += 1
             for note in view.notes:
                 error_mark = note.emphasis == "error"
-                ws.cell(r, 2, note.text).font = Font(italic=True, bold=bool(note.emphasis),
-                                                     color="C00000" if error_mark else None)
-                ws.merge_cells(start_row=r, start_column=2, end_row=r, end_column=len(columns))
+                ws.append([None, cell(ws, note.text, font=Font(italic=True, bold=bool(note.emphasis),
+                                                               color="C00000" if error_mark else None))])
+                merge(r, 2, n_cols)
                 r += 1
             # the view's heads with their units, over the columns they head
             apply_col, expect_col = view.column(APPLY), view.column(EXPECT)
@@ -244,51 +272,47 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
             for slot, index in placed.items():
                 if sim_col.get(slot) is not None:
                     heads[sim_col[slot]] = view.columns[index].label  # type: ignore[index]
+            head_row: list[Any] = [None] * n_cols
             for c, text in heads.items():
-                cell = ws.cell(r, c, text)
-                cell.font = Font(italic=True, bold=True)
-                cell.alignment = Alignment(horizontal="right", wrap_text=True)
+                head_row[c - 1] = cell(ws, text, font=Font(italic=True, bold=True),
+                                       alignment=Alignment(horizontal="right", wrap_text=True))
+            ws.append(head_row)
             r += 1
             check = CHECK_NAMES.get(table.kind, table.kind)
             tol = table.tolerance
             i_apply, i_expect = view.columns.index(apply_col), view.columns.index(expect_col)
+            expect_format = _number_format(expect_col.decimals)
+            formats = {col["Point"]: _number_format(view.percent_decimals, "%"),
+                       col["Apply"]: _number_format(apply_col.decimals, apply_col.unit),
+                       col["Expected"]: expect_format, col["Low limit"]: expect_format, col["High limit"]: expect_format}
+            inputs = {col["As-Found"]: expect_format, col["As-Left"]: expect_format, col["Remarks"]: None}
             for i, reading in enumerate(view.readings, start=1):
                 point = reading.point
                 ref = f"{table.tag}/{_REF_PREFIX.get(table.kind, '')}{i:02d}"
                 expected = reading.values[i_expect]
                 low, high = reading.low, reading.high
-                values = {
-                    "Ref": ref, "Tag": table.tag, "Check": check, "Point": point.percent, "Dir": point.direction,
-                    "Apply": reading.values[i_apply], "Expected": expected, "Unit": expect_col.unit,
-                    "Low limit": low, "High limit": high,
+                values: dict[int, Any] = {
+                    col["Ref"]: ref, col["Tag"]: table.tag, col["Check"]: check, col["Point"]: point.percent,
+                    col["Dir"]: point.direction, col["Apply"]: reading.values[i_apply], col["Expected"]: expected,
+                    col["Unit"]: expect_col.unit, col["Low limit"]: low, col["High limit"]: high,
                 }
-                for name_, value in values.items():
-                    ws.cell(r, col[name_], value)
+                sim_formats: dict[int, str] = {}
                 for slot, index in placed.items():
                     c_sim = sim_col.get(slot)
                     value = reading.values[index]
                     if c_sim is not None and value is not None:
-                        ws.cell(r, c_sim, value).number_format = _number_format(
-                            view.columns[index].decimals, view.columns[index].unit)
-                ws.cell(r, col["Point"]).number_format = _number_format(view.percent_decimals, "%")
-                ws.cell(r, col["Apply"]).number_format = _number_format(apply_col.decimals, apply_col.unit)
-                for name_ in ("Expected", "Low limit", "High limit"):
-                    ws.cell(r, col[name_]).number_format = _number_format(expect_col.decimals)
-                for name_ in ("As-Found", "As-Left", "Remarks"):
-                    cell = ws.cell(r, col[name_])
-                    cell.protection = unlocked
-                    cell.fill = input_fill
-                    if name_ != "Remarks":
-                        cell.number_format = _number_format(expect_col.decimals)
-                for c in range(1, len(columns) + 1):
-                    ws.cell(r, c).border = box
+                        values[c_sim] = value
+                        sim_formats[c_sim] = _number_format(view.columns[index].decimals, view.columns[index].unit)
+                ws.append([styled(ws, values.get(c), "input", inputs[c]) if c in inputs
+                           else styled(ws, values.get(c), "box", formats.get(c) or sim_formats.get(c))
+                           for c in range(1, n_cols + 1)])
                 span = table.output_span
                 olo = min(table.output_range[0].value, table.output_range[1].value)
                 vkey = (olo - span, olo + 2 * span, point.output.unit)
                 value_ranges.setdefault(vkey, []).append(
                     f"{get_column_letter(col['As-Found'])}{r}:{get_column_letter(col['As-Left'])}{r}"
                 )
-                issued.append(IssuedRow(
+                _record_row(record, IssuedRow(
                     ref=ref, sheet=name, tag=table.tag, check=check, loop=table.loop, percent=point.percent,
                     direction=point.direction, apply=point.input.value, apply_unit=point.input.unit,
                     expected=expected, unit=point.output.unit, low=low, high=high, output_span=span,
@@ -297,10 +321,9 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
                                       expected, point.output.unit, low, high),
                 ))
                 r += 1
-                n_points += 1
-            r += 1  # blank row between tables
+            ws.append([])  # blank row between tables
+            r += 1
         last_row = r - 1
-        counts[name] = n_points
 
         for (vmin, vmax, unit), ranges in value_ranges.items():
             dv = DataValidation(
@@ -310,7 +333,7 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
                 promptTitle="Reading", prompt=f"Reading in {unit}. Blank = not tested.",
             )
             dv.sqref = " ".join(ranges)  # type: ignore[assignment]
-            ws.add_data_validation(dv)
+            ws.data_validations.append(dv)
         found, left = get_column_letter(col["As-Found"]), get_column_letter(col["As-Left"])
         lo_c, hi_c = get_column_letter(col["Low limit"]), get_column_letter(col["High limit"])
         area = f"{found}{FIRST_ROW}:{left}{max(FIRST_ROW, last_row)}"
@@ -320,26 +343,24 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
         ws.conditional_formatting.add(area, FormulaRule(formula=[ok], fill=green))
         ws.conditional_formatting.add(area, FormulaRule(formula=[bad], fill=red))
 
-        ws.freeze_panes = f"{get_column_letter(col['Check'])}{FIRST_ROW}"
         ws.print_title_rows = f"{HEADER_ROW}:{HEADER_ROW}"
         ws.print_area = f"A1:{last_col}{max(HEADER_ROW, last_row)}"
-        _page_setup(ws, cset, PageSetupProperties)
         ws.protection.sheet = True
         ws.protection.formatColumns = False
         ws.protection.formatRows = False
         ws.protection.selectLockedCells = False
         ws.protection.selectUnlockedCells = False
+        ws.close()  # its rows are on disk; the next sheet starts
 
-    _write_contents(contents, cset, counts, sheet_per, rj, bold, PageSetupProperties)
-    _write_record(wb, cset, issued)
-    keep_as_text(wb)
+    wb._sheets.remove(record)  # streamed alongside the loop sheets, kept last
+    wb._sheets.append(record)
     atomic_write(Path(path), lambda tmp: wb.save(tmp))
     return counts
 
 
 def _page_setup(ws: Any, cset: CalibrationSet, PageSetupProperties: Any) -> None:
     ws.page_setup.orientation = "landscape"
-    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    ws.page_setup.paperSize = "9"  # A4: openpyxl Worksheet.PAPERSIZE_A4 (a write-only sheet lacks the constant)
     ws.sheet_properties.pageSetUpPr = PageSetupProperties(fitToPage=True)
     ws.page_setup.fitToWidth = 1
     ws.page_setup.fitToHeight = 0
@@ -380,31 +401,34 @@ _INSTRUCTIONS = (
 
 def _write_contents(ws: Any, cset: CalibrationSet, counts: dict[str, int], sheet_per: str,
                     rj: float | None, bold: Any, PageSetupProperties: Any) -> None:
+    """The first sheet (streamed): title, caution, reference junction, instructions, and the
+    sheets with their test points and tags."""
     from openpyxl.styles import Alignment, Font
 
     from loopdocs.core.wording import CAUTION
+    from loopdocs.sheets.cells import streamed_cell as cell
 
-    ws["A1"] = f"Calibration workbook: {cset.project}"
-    ws["A1"].font = Font(bold=True, size=14)
-    ws["A2"] = f"Index {Path(cset.index_path).name}" + (f", revision {cset.revision}" if cset.revision else "")
-    ws["A3"] = "CAUTION: " + CAUTION
-    ws["A3"].font = Font(bold=True, color="C00000")
-    ws["A3"].alignment = Alignment(wrap_text=True, vertical="top")
-    ws.merge_cells("A3:D3")
+    for column, width in (("A", 30), ("B", 26), ("C", 90), ("D", 10)):
+        ws.column_dimensions[column].width = width
     ws.row_dimensions[3].height = 45
-    r = 5
-    ws.cell(r, 1, "Thermocouple reference junction").font = bold
-    ws.cell(r, 2, f"0 degC ({SIMULATE} column)" + (f" and {rj:g} degC (Simulate, RJ column)" if rj is not None else ""))
-    r += 2
+    _page_setup(ws, cset, PageSetupProperties)
+    ws.append([cell(ws, f"Calibration workbook: {cset.project}", font=Font(bold=True, size=14))])
+    ws.append([cell(ws, f"Index {Path(cset.index_path).name}" + (f", revision {cset.revision}" if cset.revision else ""))])
+    ws.append([cell(ws, "CAUTION: " + CAUTION, font=Font(bold=True, color="C00000"),
+                    alignment=Alignment(wrap_text=True, vertical="top"))])
+    ws.merged_cells.add("A3:D3")
+    ws.append([])
+    ws.append([cell(ws, "Thermocouple reference junction", font=bold),
+               cell(ws, f"0 degC ({SIMULATE} column)" + (f" and {rj:g} degC (Simulate, RJ column)" if rj is not None else ""))])
+    ws.append([])
+    r = 7
     for i, line in enumerate(_INSTRUCTIONS):
-        cell = ws.cell(r, 1, line)
-        cell.font = bold if i == 0 else Font()
-        ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=4)
+        ws.append([cell(ws, line, font=bold if i == 0 else Font())])
+        ws.merged_cells.add(f"A{r}:D{r}")
         r += 1
+    ws.append([])
     r += 1
-    ws.cell(r, 1, "Sheet").font = bold
-    ws.cell(r, 2, "Test points").font = bold
-    ws.cell(r, 3, "Tags").font = bold
+    ws.append([cell(ws, "Sheet", font=bold), cell(ws, "Test points", font=bold), cell(ws, "Tags", font=bold)])
     r += 1
     tags_by_sheet: dict[str, list[str]] = {}
     for row_sheet, tag in _sheet_tags(cset, counts, sheet_per):
@@ -412,25 +436,17 @@ def _write_contents(ws: Any, cset: CalibrationSet, counts: dict[str, int], sheet
         if tag not in tags_by_sheet[row_sheet]:
             tags_by_sheet[row_sheet].append(tag)
     for name, n in counts.items():
-        ws.cell(r, 1, name)
-        ws.cell(r, 2, n)
-        ws.cell(r, 3, ", ".join(tags_by_sheet.get(name, [])))
+        ws.append([cell(ws, name), cell(ws, n), cell(ws, ", ".join(tags_by_sheet.get(name, [])))])
         r += 1
     if cset.skipped:
-        r += 1
-        ws.cell(r, 1, "Tags without a table").font = bold
-        r += 1
+        ws.append([])
+        ws.append([cell(ws, "Tags without a table", font=bold)])
+        r += 2
         for s in cset.skipped:
-            ws.cell(r, 1, s.tag)
-            ws.cell(r, 2, s.loop)
-            ws.cell(r, 3, s.reason)
+            ws.append([cell(ws, s.tag), cell(ws, s.loop), cell(ws, s.reason)])
             r += 1
-    ws.column_dimensions["A"].width = 30
-    ws.column_dimensions["B"].width = 26
-    ws.column_dimensions["C"].width = 90
-    ws.column_dimensions["D"].width = 10
     ws.print_area = f"A1:D{r}"
-    _page_setup(ws, cset, PageSetupProperties)
+    ws.close()
 
 
 def _sheet_tags(cset: CalibrationSet, counts: dict[str, int], sheet_per: str) -> Iterable[tuple[str, str]]:
@@ -443,14 +459,23 @@ def _sheet_tags(cset: CalibrationSet, counts: dict[str, int], sheet_per: str) ->
         yield names[key], table.tag
 
 
-def _write_record(wb: Any, cset: CalibrationSet, issued: list[IssuedRow]) -> None:
+def _start_record(wb: Any, cset: CalibrationSet) -> Any:
+    """The very hidden record sheet, streamed: its two head rows now, a row per test row
+    as the value sheets are written (:func:`_record_row`)."""
+    from loopdocs.sheets.cells import streamed_cell
+
     ws = wb.create_sheet(RECORD_SHEET)
     ws.sheet_state = "veryHidden"
-    ws.append([FORMAT_TAG, cset.project, cset.revision, cset.index_path])
-    ws.append(list(RECORD_COLUMNS))
-    for row in issued:
-        ws.append([getattr(row, name) for name in RECORD_COLUMNS])
     ws.protection.sheet = True
+    ws.append([streamed_cell(ws, value) for value in (FORMAT_TAG, cset.project, cset.revision, cset.index_path)])
+    ws.append(list(RECORD_COLUMNS))
+    return ws
+
+
+def _record_row(ws: Any, row: IssuedRow) -> None:
+    from loopdocs.sheets.cells import streamed_values
+
+    ws.append(streamed_values(ws, [getattr(row, name) for name in RECORD_COLUMNS]))
 
 
 # --------------------------------------------------------------------------- reading
