@@ -52,6 +52,12 @@ def run(*args: str):
     (BASE_ROWS + [{"tag": "T-3105"}], "index.bad-tag", "error", 4, "tag"),
     (BASE_ROWS + [{"tag": "TV-101", "air_action": "air to wobble"}], "index.vocabulary", "error", 4, "air_action"),
     (BASE_ROWS + [{"tag": "TV-101", "cv": "about ten"}], "index.not-a-number", "error", 4, "cv"),
+    # a tolerance of 0 % (or less) of span cannot be met by any reading (common practice:
+    # tolerances are a positive +/- % of span); found by the fuzzing run of tests/test_fuzz.py
+    (BASE_ROWS + [{"tag": "PT-7", "range_low": 0, "range_high": 10, "units": "bar", "accuracy_pct": 0}],
+     "index.not-a-number", "error", 4, "accuracy_pct"),
+    (BASE_ROWS + [{"tag": "PT-7", "range_low": 0, "range_high": 10, "units": "bar", "accuracy_pct": "-0.5"}],
+     "index.not-a-number", "error", 4, "accuracy_pct"),
     (BASE_ROWS + [{"tag": "PT-7", "range_low": 5, "range_high": 5, "units": "bar"}], "range.zero-span", "error", 4, "range_high"),
     (BASE_ROWS + [{"tag": "PT-7", "range_low": 0, "range_high": 10}], "range.no-units", "error", 4, "units"),
     (BASE_ROWS + [{"tag": "PT-7", "range_low": 0, "units": "bar"}], "range.incomplete", "error", 4, "range_high"),
@@ -271,3 +277,26 @@ def test_starter_config_documents_the_revision_sequence_defaults():
     documented = RevisionScheme(**tomllib.loads(uncommented)["revisions"])
     assert documented == RevisionScheme()
     assert (documented.before_construction, documented.for_construction) == ("A", "0")
+
+
+def test_zero_accuracy_on_a_split_valve_is_a_finding_and_the_tables_still_come(tmp_path):
+    # Regression (tests/test_fuzz.py found it): Accuracy % 0 on a valve of a split group
+    # ended calibrate with a ValueError from the loop check table. The cell is an error
+    # finding and the valve's tables use the default tolerance of a blank Accuracy %
+    # (1 % of travel, common practice for a valve stroke check).
+    rows = [
+        {"tag": "PT-9", "service": "s", "signal": "4-20 mA", "range_low": 0, "range_high": 10, "units": "bar"},
+        {"tag": "PIC-9", "service": "s", "signal": "4-20 mA", "control_action": "reverse", "platform": "dcs"},
+        {"tag": "PV-9A", "service": "s", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+         "co_start_pct": 0, "co_end_pct": 50, "accuracy_pct": 0},
+        {"tag": "PV-9B", "service": "s", "signal": "4-20 mA", "air_action": "ATO", "fail_position": "FC",
+         "co_start_pct": 50, "co_end_pct": 100},
+    ]
+    path = write(tmp_path, rows)
+    bad = findings_of(path, "index.not-a-number")
+    assert [(f.tags, f.location.column) for f in bad] == [(("PV-9A",), LETTER["accuracy_pct"])]
+    result = run("calibrate", path)
+    # exit 1: the index has errors (the tables are written, marked); never a traceback
+    assert result.exit_code == 1, result.output
+    assert result.exception is None or isinstance(result.exception, SystemExit), repr(result.exception)
+    assert "PV-9A" in result.output

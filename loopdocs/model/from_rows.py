@@ -9,7 +9,8 @@ Rules raised here (all name the cell):
 - ``index.duplicate-tag`` (error): the tag appears on an earlier row; this row skipped.
 - ``index.vocabulary`` (error): a value outside its column's vocabulary.
 - ``index.not-a-number`` (error): text in a numeric column, or a number that is not finite,
-  beyond 1e12 or closer to zero than 1e-9 (a typing or export error, never a setting).
+  beyond 1e12 or closer to zero than 1e-9 (a typing or export error, never a setting), or
+  an Accuracy % of 0 or less (no reading can meet a tolerance of nothing).
 - ``index.unprintable`` (warning): control or direction-override characters, removed
   from the cell (no sheet, drawing or workbook can carry them).
 - ``index.long-text`` (warning): a text cell past 10,000 characters, cut with a mark.
@@ -115,8 +116,17 @@ def _convert_uncached(key: str, value: Any) -> Any:
     if key in LIST_VOCAB_COLUMNS:
         return LIST_VOCAB_COLUMNS[key].parse_list(_text(value))
     if key in NUMERIC_KEYS:
-        return to_number(value)
+        number = to_number(value)
+        if key in _POSITIVE_KEYS and number <= 0:
+            raise ValueError(f"{_text(value)!r} is not a tolerance: {_POSITIVE_KEYS[key]} must be more than 0")
+        return number
     return _text(value)
+
+
+#: Numeric columns that only take a value above zero, by header: a calibration tolerance
+#: of 0 % (or less) of span cannot be met by any reading (common practice: tolerances are
+#: stated as a positive +/- % of span).
+_POSITIVE_KEYS = {"accuracy_pct": "Accuracy % (tolerance, % of span)"}
 
 
 #: Columns of free text: a text cell is kept as read (stripped), nothing to look up.
