@@ -17,9 +17,13 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from loopdocs.core.findings import Finding
 from loopdocs.model.records import Project
+
+if TYPE_CHECKING:
+    from loopdocs.draw.revision_marks import RevisionMarks
 
 DIAGRAM_SUFFIX = ".loop.svg"
 CHART_SUFFIX = ".range.svg"
@@ -36,12 +40,16 @@ class DrawingFile:
     controller: str | None = None
 
 
-def loop_diagram_svg(project: Project, loop_id: str) -> str:
-    """SVG text of the loop diagram of ``loop_id``."""
+def loop_diagram_svg(project: Project, loop_id: str, marks: RevisionMarks | None = None) -> str:
+    """SVG text of the loop diagram of ``loop_id``; with ``marks`` (a sheet's current
+    revision and its changed tags) a revision mark beside each changed tag's bubble."""
     from loopdocs.draw.layout import layout_loop
+    from loopdocs.draw.revision_marks import mark_diagram
     from loopdocs.draw.svg import svg_document
 
-    return svg_document(layout_loop(project, loop_id))
+    layout = layout_loop(project, loop_id)
+    mark_diagram(layout, marks)
+    return svg_document(layout)
 
 
 def _chart_groups(project: Project):
@@ -51,11 +59,25 @@ def _chart_groups(project: Project):
     return split_groups_to_chart(groups_for(project))
 
 
-def loop_charts(project: Project, loop_id: str, findings: Sequence[Finding] = ()) -> list[tuple[str, str]]:
+def loop_charts(project: Project, loop_id: str, findings: Sequence[Finding] = (),
+                marks: RevisionMarks | None = None) -> list[tuple[str, str]]:
     """``(controller, SVG text)`` of the range chart of each split group of ``loop_id``."""
     from loopdocs.draw.range_chart import range_chart_svg
 
+    if marks:  # a revision mark beside the line label of each changed element
+        return [(g.controller, marked_chart_svg(g, findings, marks)) for g in _chart_groups(project) if g.loop == loop_id]
     return [(g.controller, range_chart_svg(g, findings)) for g in _chart_groups(project) if g.loop == loop_id]
+
+
+def marked_chart_svg(group, findings: Sequence[Finding], marks: RevisionMarks) -> str:
+    """SVG text of a range chart with the revision marks of ``marks``."""
+    from loopdocs.draw.range_chart import chart_layout
+    from loopdocs.draw.revision_marks import mark_chart
+    from loopdocs.draw.svg import svg_document
+
+    chart = chart_layout(group, findings)
+    mark_chart(chart, marks)
+    return svg_document(chart)
 
 
 def drawing_files(project: Project, findings: Sequence[Finding] = (),

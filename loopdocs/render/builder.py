@@ -174,6 +174,9 @@ class Job:
     findings: tuple[Finding, ...]
     settings: SheetSettings | None = None
     """The loop's own sheet settings (its revision table), when they differ from the project's."""
+    marks: Any = None
+    """The revision marks of the sheet (``loopdocs.draw.revision_marks.RevisionMarks``): its
+    current revision and the tags changed in it; in the cache key through ``frame_record``."""
 
 
 # --- worker side -----------------------------------------------------------------------
@@ -233,7 +236,7 @@ def _pieces(job: Job):
     from loopdocs.render.pieces import loop_pieces
 
     checked = _STATE["checked"]
-    return loop_pieces(checked.project, job.loop_id, job.findings, _splits(checked), _STATE)
+    return loop_pieces(checked.project, job.loop_id, job.findings, _splits(checked), _STATE, job.marks)
 
 
 def render_job(job: Job) -> tuple[str, float]:
@@ -320,6 +323,7 @@ def build(
     from loopdocs.core.names import unique_filenames
     from loopdocs.checks import check_project
     from loopdocs.render.pieces import group_loop, loop_findings, loop_record
+    from loopdocs.draw.revision_marks import revision_marks
 
     started = time.perf_counter()
     out_dir = Path(out_dir)
@@ -377,7 +381,8 @@ def build(
         if not force and manifest.fresh(loop_id, key) and manifest.entries[loop_id].file == str(target.relative_to(out_dir)):
             result.reused.append(loop_id)
         else:
-            jobs.append(Job(loop_id, number, count, target, key, tuple(found), own if own is not settings else None))
+            jobs.append(Job(loop_id, number, count, target, key, tuple(found), own if own is not settings else None,
+                            revision_marks(result.revisions[loop_id], changes)))
 
     if not loops:  # sheets of loops that left the index
         for gone in sorted(set(manifest.entries) - set(all_loops)):

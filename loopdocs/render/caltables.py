@@ -64,6 +64,8 @@ class DisplayTable:
     """Numbers of the sheet notes that hold this table's shared notes (:func:`share_notes`)."""
     min_width_mm: float = MIN_TABLE_MM
     """Narrowest the table is printed: its columns are stretched to it (:meth:`widened`)."""
+    caption_mark_mm: tuple[float, float] = (0.0, 0.0)
+    """Width and height of the revision marks beside the caption's tags (``draw.revision_marks``)."""
 
     @property
     def refs_text(self) -> str:
@@ -137,9 +139,11 @@ class DisplayTable:
         # wide stands in for each (wrap_text drops leading spaces)
         n_mm = text_width_mm("n", TABLE_TEXT_MM)
         stand_ins = ["n" * math.ceil(text_width_mm(part, CAPTION_TAG_MM, bold=True) / n_mm) for part in self.tag_parts]
+        stand_ins += ["n" * math.ceil(self.caption_mark_mm[0] / n_mm)] if self.caption_mark_mm[0] else []
         title_lines = wrap_text(" ".join([*stand_ins, self.title]), self.width_mm, TABLE_TEXT_MM)
         tag_lines = sum(1 for text in title_lines if "nnn" in text) or 1
         caption = CAPTION_TAG_MM * LINE_HEIGHT * tag_lines + line * (len(title_lines) - tag_lines) + 0.6
+        caption += max(0.0, self.caption_mark_mm[1] - CAPTION_TAG_MM * LINE_HEIGHT)  # a mark is taller than the tag
         if self.tolerance:
             caption += line * len(wrap_text(f"tolerance {self.tolerance}", self.width_mm, TABLE_TEXT_MM))
         head_lines = max((len(wrap_text(h, w - CELL_PAD_MM + 0.2, TABLE_TEXT_MM, bold=True))

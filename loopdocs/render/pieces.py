@@ -125,9 +125,10 @@ def loop_groups(project: Project, loop_id: str, splits: Sequence[Any]) -> list[A
 
 
 def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], splits: Sequence[Any],
-                state: MutableMapping[str, Any]) -> tuple[SheetPieces, dict[str, Any]]:
+                state: MutableMapping[str, Any], marks: Any = None) -> tuple[SheetPieces, dict[str, Any]]:
     """The sheet pieces of ``loop_id`` and the JSON record that travels with the sheet
-    (attached in PDF/A mode).
+    (attached in PDF/A mode). ``marks`` (``draw.revision_marks.RevisionMarks``): the
+    sheet's current revision and the tags changed in it, marked on the drawings and tables.
 
     Diagram, range charts and calibration tables are made from the loop's part of the
     project (:func:`loop_project`): the same drawings and tables as from the whole
@@ -146,10 +147,11 @@ def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], spl
         loop=loop,
         tags=tags,
         linked_tags=tuple(part.tags[name] for name in part.tags if name not in own),
-        diagram_svg=loop_diagram_svg(part, loop_id),
-        range_charts_svg=tuple(svg for _, svg in loop_charts(part, loop_id, findings)),
+        diagram_svg=loop_diagram_svg(part, loop_id, marks),
+        range_charts_svg=tuple(svg for _, svg in loop_charts(part, loop_id, findings, marks=marks)),
         calibrations=calibrations,
         findings=findings,
+        revision_marks=marks,
     )
     record = loop_record(project, loop_id, findings, groups, state)
     record["calibration"] = [table.as_json() for table in calibrations]

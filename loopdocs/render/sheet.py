@@ -59,6 +59,9 @@ class SheetPieces:
     linked_tags: Sequence[Tag] = ()
     """Tags of other loops linked to this loop's tags by Driven By (``pieces.linked_tags``):
     their alarm and trip settings are printed with the loop's."""
+    revision_marks: Any = None
+    """The sheet's current revision and the tags changed in it
+    (``loopdocs.draw.revision_marks.RevisionMarks``), or None: no revision marks."""
 
 
 @dataclass(frozen=True)
@@ -440,6 +443,46 @@ def sheet_plan(pieces: SheetPieces, frame: SheetFrame) -> list[list[Placed]]:
     return sheet_context(pieces, frame)["plan"]
 
 
+def revision_mark_context(marks: Any) -> dict[str, Any]:
+    """The tags the sheet marks as changed in its current revision and the mark set
+    beside them in the Tags table and the table captions (``draw.revision_marks``, our
+    own SVG, checked by :func:`trusted_svg`)."""
+    from markupsafe import Markup
+
+    from loopdocs.draw.revision_marks import mark_svg
+
+    if not marks:
+        return {"marked_tags": frozenset(), "revision_mark": ""}
+    return {"marked_tags": frozenset(marks.tags), "revision_mark": Markup(trusted_svg(mark_svg(marks.revision)))}
+
+
+def marked_rows_mm(tags: Sequence[Tag], marks: Any, row_mm: float) -> float:
+    """What the rows of the marked tags add to the height of the Tags table (a mark is
+    taller than a row; ``sheet.css`` ``.rev-mark``)."""
+    from loopdocs.draw.revision_marks import html_mark_mm
+
+    if not marks:
+        return 0.0
+    extra = max(0.0, html_mark_mm(marks.revision)[1] + 1.05 - row_mm)  # cell padding and rule
+    return extra * sum(1 for t in tags if t.tag in marks.tags)
+
+
+def marked_tables(tables: list[DisplayTable], marks: Any) -> list[DisplayTable]:
+    """The tables with the size of the revision marks beside their caption's changed tags."""
+    from dataclasses import replace
+
+    from loopdocs.draw.revision_marks import html_mark_mm
+
+    if not marks:
+        return tables
+    width, height = html_mark_mm(marks.revision)
+    out = []
+    for table in tables:
+        count = sum(1 for part in table.tag_parts if part.rstrip(",") in marks.tags)
+        out.append(replace(table, caption_mark_mm=(count * width, height)) if count else table)
+    return out
+
+
 def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     """What the sheet template shows (``plan``: the placed boxes, page by page)."""
     from markupsafe import Markup
@@ -465,7 +508,7 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     finding_texts = [f"{v['severity']} {v['rule']} ({v['tags']}): {v['message']}" for v in finding_views]
     finding_texts += [f"{v['severity']}, accepted {v['rule']} ({v['tags']}): {v['message']} Accepted by "
                       f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
-    tag_rows_mm = 3.9 * (1 + len(pieces.tags))
+    tag_rows_mm = 3.9 * (1 + len(pieces.tags)) + marked_rows_mm(pieces.tags, pieces.revision_marks, 3.9)
     title = title_text(pieces.loop.id, pieces.loop.service or "")
     room = side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None,
                         title, pieces.loop.service or "")
@@ -481,7 +524,7 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
         side_mm = side_text_mm(notes, headings, SIDE_WIDTH_MM, finding_texts or ["No open findings."]) + tag_rows_mm
         if side_mm <= room:
             break
-    tables = ([trips] if trips else []) + calibrations
+    tables = marked_tables(([trips] if trips else []) + calibrations, pieces.revision_marks)
     diagram, scale = None, 1.0
     box_w, box_h = content_box_mm(settings)
     if pieces.diagram_svg:
@@ -535,5 +578,6 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
         "author": document_author(tb, settings),
         "keywords": ", ".join(["loop sheet", pieces.loop.id, *(t.tag for t in pieces.tags)]),
         "plan": pages,
+        **revision_mark_context(pieces.revision_marks),
     }
     return context
