@@ -374,6 +374,13 @@ def _search_boundaries(
             b += step
 
     best: tuple[float, ...] | None
+    if n == 3:
+        best, best_jump = _search_three(top, bottom, width_min, _grid_step_pct(100.0 - n * width_min, n - 1))
+        if best is None:
+            return proportional, proportional_jump
+        found3 = [round(b, 4) for b in best]
+        found_jump = largest_gain_jump(gain_ratios(values, staged_segments(found3), chars, ranges))
+        return (found3, found_jump) if found_jump < proportional_jump else (proportional, proportional_jump)
     if n == 2:
         # one boundary b: the ratio (bottom[1] / (100 - b)) / (top[0] / b) is 1 at
         # b = 100 k / (1 + k), k = top[0] / bottom[1], and grows away from it on each side,
@@ -406,6 +413,71 @@ def _search_boundaries(
     if found_jump < proportional_jump:
         return found, found_jump
     return proportional, proportional_jump
+
+
+def _search_three(
+    top: Sequence[float], bottom: Sequence[float], width_min: float, step: float
+) -> tuple[tuple[float, float] | None, float]:
+    """The grid and local search of :func:`_search_boundaries` for three elements (two
+    boundaries ``p < q``), giving the same boundaries and jump bit for bit, only faster.
+
+    The jump of ``(p, q)`` is ``max(1, r0, 1/r0, r1, 1/r1)`` with the gain ratios
+    ``r0 = (bottom[1] / (q - p)) / (top[0] / p)`` and
+    ``r1 = (bottom[2] / (100 - q)) / (top[1] / (q - p))``, computed in the same order as
+    the general search. For a fixed ``p``, ``r0`` never grows and ``r1`` never shrinks as
+    ``q`` grows (divisions by a growing and a shrinking width), so on the coarse grid a
+    ``q`` whose ``r0`` is already at least the best jump found is passed over, and once
+    ``1/r0`` or ``r1`` reaches it no larger ``q`` can do better: the first best point in
+    grid order is the one the full grid finds. The local search then runs as in the
+    general case."""
+    t0, t1, c1, c2 = top[0], top[1], bottom[1], bottom[2]
+    floor = width_min - 1e-9
+    inf = math.inf
+
+    def jump(p: float, q: float) -> float:
+        w0, w1, w2 = p - 0.0, q - p, 100.0 - q
+        if w0 < floor or w1 < floor:
+            return inf
+        r = (c1 / w1) / (t0 / w0)
+        worst = r if r >= 1.0 else 1.0 / r  # max(1, r, 1/r)
+        if w2 < floor:
+            return inf
+        r = (c2 / w2) / (t1 / w1)
+        r = r if r >= 1.0 else 1.0 / r
+        return r if r > worst else worst
+
+    best: tuple[float, float] | None = None
+    best_jump = inf
+    high_p, high_q = 100.0 - width_min * 2 + 1e-9, 100.0 - width_min * 1 + 1e-9
+    p = width_min
+    while p <= high_p:
+        gain0 = t0 / (p - 0.0)
+        q = p + width_min
+        while q <= high_q:
+            w1 = q - p
+            r0 = (c1 / w1) / gain0
+            if r0 >= best_jump:  # the jump is at least r0 here
+                q += step
+                continue
+            if 1.0 / r0 >= best_jump or (c2 / (100.0 - q)) / (t1 / w1) >= best_jump:
+                break  # and at least as much at every larger q
+            j = jump(p, q)
+            if j < best_jump:
+                best, best_jump = (p, q), j
+            q += step
+        p += step
+    h = step / 2.0
+    while best is not None and h >= 0.01 - 1e-12:
+        improved = True
+        while improved:
+            improved = False
+            for o0, o1 in _offsets(2):
+                p, q = best[0] + o0 * h, best[1] + o1 * h
+                j = jump(p, q)
+                if j < best_jump - 1e-12:
+                    best, best_jump, improved = (p, q), j, True
+        h /= 2.0
+    return best, best_jump
 
 
 def _offsets(count: int) -> list[tuple[int, ...]]:
