@@ -27,7 +27,7 @@ from typing import Any, Iterable
 
 from loopdocs.core.findings import Finding, Location, Severity
 from loopdocs.core.names import BIDI_CONTROLS
-from loopdocs.model.records import Loop, Project, Tag
+from loopdocs.model.records import TAG_FIELDS, Loop, Project, Tag, tag_from_converted
 from loopdocs.model.tagname import TagKind, TagParts, compile_tag_pattern, parse_tag, tag_kind
 from loopdocs.model.vocab import LIST_VOCAB_COLUMNS, VOCAB_COLUMNS
 from loopdocs.read import IndexTable
@@ -301,15 +301,16 @@ def build_project(
             fields["driven_by"] = fields["driven_by"].upper()
         loop_given = fields.pop("loop", None)
         loop, _ = loop_id_for(loop_given, parts)
-        record = Tag(
-            tag=tag_text, parts=parts, kind=tag_kind(parts), loop=loop,
-            loop_given=loop_given, row=row.row, extra=dict(row.extra), **fields,
-        )
-        names = record.__pydantic_fields_set__
-        same = shared_names.setdefault(tuple(fields), names)
-        if same is not names and same == names:  # records are frozen: the set is never changed
-            object.__setattr__(record, "__pydantic_fields_set__", same)
-        tags[tag_text] = record
+        values = {
+            "tag": tag_text, "parts": parts, "kind": tag_kind(parts), "loop": loop,
+            "loop_given": loop_given, "row": row.row, "extra": dict(row.extra), **fields,
+        }
+        shape = tuple(fields)
+        names = shared_names.get(shape)
+        if names is None:
+            names = shared_names[shape] = set(values)
+        # every value converted above has the type the record holds: no second validation
+        tags[tag_text] = tag_from_converted(values, names) if names <= TAG_FIELDS else Tag(**values)
 
     project = Project(
         index_path=str(table.path), sheet=table.sheet,

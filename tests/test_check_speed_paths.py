@@ -1,0 +1,65 @@
+"""The faster paths of ``check`` give what the plain paths give.
+
+- Records made from converted cells without a second validation
+  (``model.records.tag_from_converted``) against pydantic (a general-purpose validation
+  library) validating the same values into a ``Tag``.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from openpyxl import Workbook
+
+from loopdocs.model.from_rows import build_project
+from loopdocs.model.records import Tag
+from loopdocs.read import read_index
+
+HEADER = [
+    "Tag", "Loop", "Service", "Signal", "Range Low", "Range High", "Units", "Air Action", "Fail Position",
+    "Driven By", "CO Start %", "CO End %", "Cv", "Characteristic", "Accessories", "IO Address", "JB",
+    "Accuracy %", "Site Memo",
+]
+
+
+def _workbook(path: Path, rows) -> Path:
+    book = Workbook()
+    sheet = book.active
+    for row in rows:
+        sheet.append(row)
+    book.save(path)
+    return path
+
+
+def test_records_are_what_pydantic_validates_from_the_same_values(tmp_path: Path):
+    # Numbers as numbers and as text, vocabulary in other spellings, an accessory list,
+    # a number in a free-text column (JB 31), a blank Loop, a Loop that disagrees, a column
+    # the template does not know, and a cell that does not convert (reported, left blank).
+    rows = [
+        HEADER,
+        ["TIC-3105", None, "Fermenter 5 jacket", "4-20 mA", 0, 40, "degC", None, None, None, None, None, None,
+         None, None, "CAB2-R1-S04-CH03", 31, "0.25", "north wall"],
+        ["TV-3105A", "T-3105", "cooling", "4-20 mA HART", None, None, None, "air to open", "fc", "tic-3105",
+         "0", "50 %", "25", "Equal Percentage", "SOV, open/closed limit switches", None, "JB-07", None, None],
+        ["TV-3105B", "T-3106", None, None, None, None, None, "ATC", "FO", "TIC-3105", 50, 100, 12.5, "linear",
+         None, None, None, None, ""],
+        ["PT-4120", None, "Brite tank", "4-20 mA", "-1", "6", "barg", None, None, None, None, None, "ten",
+         None, None, None, None, 0.5, None],
+    ]
+    project, findings = build_project(read_index(_workbook(tmp_path / "index.xlsx", rows)))
+    # common practice: a word in a numeric column is reported and read as blank
+    assert [f.rule for f in findings if f.tags == ("PT-4120",)] == ["index.not-a-number"]
+    assert set(project.tags) == {"TIC-3105", "TV-3105A", "TV-3105B", "PT-4120"}
+    for record in project.tags.values():
+        given = {name: getattr(record, name) for name in record.model_fields_set}
+        validated = Tag(**given)
+        assert record == validated
+        assert record.model_fields_set == validated.model_fields_set
+        assert list(record.__dict__) == list(validated.__dict__)
+        assert [type(v) for v in record.__dict__.values()] == [type(v) for v in validated.__dict__.values()]
+        assert record.model_dump_json() == validated.model_dump_json()
+    valve = project.tags["TV-3105A"]
+    assert valve.co_end_pct == 50.0 and type(valve.cv) is float and valve.driven_by == "TIC-3105"
+    assert len(valve.accessories) == 3 and project.tags["TIC-3105"].jb == "31"
+    assert project.tags["TIC-3105"].extra == {"Site Memo": "north wall"}
+    assert project.tags["PT-4120"].cv is None and project.tags["PT-4120"].range_low == -1.0
