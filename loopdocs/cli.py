@@ -8,8 +8,25 @@ Commands live in their own modules (``loopdocs/commands/``), each with a
 from __future__ import annotations
 
 import importlib
+import sys
 
-import typer
+
+def _parse_index_ahead(args: list[str]) -> None:
+    """``loopdocs check FILE.xlsx ...``: start parsing the workbook now, on a second
+    thread, while typer and the commands are imported (``read.background.parse_ahead``;
+    docs/performance.md). The argument taken is the one workbook file on the line."""
+    if args[:1] != ["check"]:
+        return
+    files = [a for a in args[1:] if a[-5:].lower() in (".xlsx", ".xlsm") and not a.startswith("-")]
+    if len(files) == 1:
+        from loopdocs.read.background import parse_ahead
+
+        parse_ahead(files[0])
+
+
+_parse_index_ahead(sys.argv[1:])
+
+import typer  # noqa: E402
 
 COMMAND_MODULES = (
     "loopdocs.commands.check",

@@ -63,3 +63,37 @@ def test_records_are_what_pydantic_validates_from_the_same_values(tmp_path: Path
     assert len(valve.accessories) == 3 and project.tags["TIC-3105"].jb == "31"
     assert project.tags["TIC-3105"].extra == {"Site Memo": "north wall"}
     assert project.tags["PT-4120"].cv is None and project.tags["PT-4120"].range_low == -1.0
+
+
+def test_a_parse_started_before_the_command_line_is_taken_over_by_the_read(tmp_path: Path):
+    # The cells against openpyxl (a general-purpose spreadsheet library) reading the same file.
+    from openpyxl import load_workbook
+
+    from loopdocs.read import background
+
+    rows = [HEADER[:7], ["TT-3105", "T-3105", "Fermenter 5", "4-20 mA", 0, 40, "degC"],
+            ["PT-4120", None, "Brite tank", "4-20 mA", -1, 6, "barg"]]
+    path = _workbook(tmp_path / "index.xlsx", rows)
+    other = _workbook(tmp_path / "other.xlsx", rows[:2])
+    background.parse_ahead(str(other))  # for another file: dropped, the index parsed itself
+    background.parse_ahead(str(path))
+    made: list[Path] = []
+    original = background._FirstSheet.__init__
+
+    def counting(self, p):
+        made.append(p)
+        original(self, p)
+
+    background._FirstSheet.__init__ = counting
+    try:
+        _, _, table = background.start_reading(path).result()
+    finally:
+        background._FirstSheet.__init__ = original
+    assert made == [] and background._STARTED == []
+    expected = [list(r) for r in load_workbook(path, read_only=True).active.iter_rows(min_row=2, values_only=True)]
+    got = [[row.values.get(k) for k in ("tag", "loop", "service", "signal", "range_low", "range_high", "units")]
+           for row in table.rows]
+    assert got == expected
+    background.parse_ahead(str(tmp_path / "missing.xlsx"))  # not a file: nothing started
+    background.parse_ahead(str(tmp_path))
+    assert background._STARTED == []
