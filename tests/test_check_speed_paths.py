@@ -97,3 +97,39 @@ def test_a_parse_started_before_the_command_line_is_taken_over_by_the_read(tmp_p
     background.parse_ahead(str(tmp_path / "missing.xlsx"))  # not a file: nothing started
     background.parse_ahead(str(tmp_path))
     assert background._STARTED == []
+
+
+def test_valves_of_one_set_up_share_their_working_but_keep_their_own_record(tmp_path: Path):
+    # Valves with the same set-up (positioner split, ATO, CO 0 to 50 %), two in split groups
+    # and two alone, one of those with a "-0" CO Start, and valves of another set-up; each
+    # element against building it alone.
+    from loopdocs.model import groups
+
+    header = ["Tag", "Signal", "Air Action", "Fail Position", "Driven By", "Split Method", "CO Start %", "CO End %",
+              "Input Low", "Input High", "Input Units"]
+    rows = [header, ["TIC-3105", "4-20 mA", None, None, None, None, None, None, None, None, None],
+            ["TIC-3106", "4-20 mA", None, None, None, None, None, None, None, None, None]]
+    singles = (("TV-3104", "TIC-3104", 0), ("TV-3107", "TIC-3107", "-0"))
+    for tag, driver, co_start in (("TV-3105A", "TIC-3105", 0), ("TV-3106A", "TIC-3106", 0), *singles):
+        rows.append([tag, "4-20 mA", "ATO", "FC", driver, "positioner", co_start, 50, 4, 12, "mA"])
+    rows.append(["TV-3105B", "4-20 mA", "ATC", "FO", "TIC-3105", "positioner", 50, 100, 12, 20, "mA"])
+    rows.append(["TV-3106B", "4-20 mA", "ATC", "FO", "TIC-3106", "positioner", 50, 100, 12, 20, "mA"])
+    rows.append(["TV-3109", "4-20 mA", "ATC", "FO", "TIC-3109", "positioner", 0, 50, 4, 12, "mA"])  # air only differs
+    project, _ = build_project(read_index(_workbook(tmp_path / "index.xlsx", rows)))
+    built = groups.build_groups(project)
+    elements = {e.tag: (g, e) for g in built for e in g.elements}
+    assert set(elements) == {"TV-3104", "TV-3105A", "TV-3105B", "TV-3106A", "TV-3106B", "TV-3107", "TV-3109"}
+    for tag, (group, element) in elements.items():
+        alone = groups._build_element(
+            element.record, element.method, None, len(group.elements) == 1, group.controller_record, None)
+        assert element.record is project.tags[tag]
+        assert {k: v for k, v in vars(element).items() if k != "assumptions"} == \
+            {k: v for k, v in vars(alone).items() if k != "assumptions"}
+        assert element.assumptions == alone.assumptions
+    # each has its own assumptions (a change to one reaches no other)
+    assert elements["TV-3105A"][1].assumptions is not elements["TV-3106A"][1].assumptions
+    # common practice: a positioner split over half the controller output on 4-20 mA is
+    # calibrated 4 to 12 mA (ATO, opening as CO rises) and 12 to 20 mA for the second half
+    assert elements["TV-3105A"][1].required_input_range == (4.0, 12.0)
+    assert elements["TV-3106B"][1].required_input_range == (12.0, 20.0)
+    assert str(elements["TV-3104"][1].co_start_pct) == "0.0" and str(elements["TV-3107"][1].co_start_pct) == "-0.0"

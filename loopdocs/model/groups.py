@@ -346,12 +346,13 @@ def build_groups(project: Project) -> list[SplitGroup]:
         else:
             converters[controller][record.tag] = record
     groups = []
+    made: dict[tuple, list[Any]] = {}
     for controller in sorted(members, key=natural_key):
         records = members[controller]
         if len(records) > 1:
             records = sorted(records, key=lambda t: natural_key(t.tag))
         relays = tuple(sorted(converters[controller].values(), key=lambda t: natural_key(t.tag))) if controller in converters else ()
-        groups.append(_build_group(project, controller, records, relays))
+        groups.append(_build_group(project, controller, records, relays, made))
     return groups
 
 
@@ -396,21 +397,26 @@ def _method_for(
     return "positioner", "Split Method blank, taken as positioner (the elements share one output)"
 
 
-def _build_group(project: Project, controller: str, records: list[Tag], relays: tuple[Tag, ...]) -> SplitGroup:
+def _build_group(
+    project: Project, controller: str, records: list[Tag], relays: tuple[Tag, ...], made: dict[tuple, list[Any]] | None = None
+) -> SplitGroup:
+    made = {} if made is None else made
     ctrl = project.tags.get(controller)
     loop = ctrl.loop if ctrl is not None else records[0].loop
     pneumatic_relay = next((r for r in relays if r.signal is not None and r.signal.is_pneumatic), None) if relays else None
     if len(records) == 1:  # an ordinary valve (or a split that lost its partner)
-        element = _build_element(records[0], *_method_for(records[0], True, pneumatic_relay, set(), True),
-                                 True, ctrl, pneumatic_relay)
-        arrangement = classify([element.intent]) if element.intent is not None else None
+        element, known = _element_for(records[0], *_method_for(records[0], True, pneumatic_relay, set(), True),
+                                      True, ctrl, pneumatic_relay, made)
+        if len(known) == 1:  # the arrangement of a single valve depends on its intent only
+            known.append(classify([element.intent]) if element.intent is not None else None)
+        arrangement = known[1]
         return SplitGroup(controller, loop, ctrl, relays, (element,), arrangement, element.method, (), None, None)
 
     stated = {r.split_method.value for r in records if r.split_method is not None}
     addresses = [r.io_address for r in records]
     own_outputs = all(addresses) and len(set(addresses)) == len(addresses)
     elements = [
-        _build_element(r, *_method_for(r, False, pneumatic_relay, stated, own_outputs), False, ctrl, pneumatic_relay)
+        _element_for(r, *_method_for(r, False, pneumatic_relay, stated, own_outputs), False, ctrl, pneumatic_relay, made)[0]
         for r in records
     ]
     usable = [e for e in elements if e.intent is not None]
@@ -454,6 +460,37 @@ def _span_for(record: Tag, method: str, ctrl: Tag | None, relay: Tag | None) -> 
                 pass
         return PSIG_3_15, "pneumatic signal not stated, taken as 3 to 15 psig"
     return span_of_signal(record.signal) or MA_4_20, None
+
+
+def _element_for(
+    record: Tag, method: str, method_note: str | None, single: bool, ctrl: Tag | None, relay: Tag | None,
+    made: dict[tuple, list[Any]],
+) -> tuple[SplitElement, list[Any]]:
+    """``_build_element(...)`` worked out once per distinct set of the values it reads
+    (an index repeats the same few valve set-ups thousands of times), and for each further
+    valve of that set-up a copy with its own record and its own assumptions; with the
+    list ``made`` keeps for that set-up (the first element, then what the caller adds).
+    The values read: the method and its note, single or not, Signal, Input Low/High/Units,
+    Air and Positioner Action, CO and travel columns, and the signal of the relay and of
+    the controller (a pneumatic span). A ``-0`` in a numeric cell is never shared: it
+    equals 0 as a key but is kept as written."""
+    numbers = (record.input_low, record.input_high, record.co_start_pct, record.co_end_pct,
+               record.travel_start_pct, record.travel_end_pct)
+    if any(x == 0.0 and math.copysign(1.0, x) < 0.0 for x in numbers if x is not None):
+        return _build_element(record, method, method_note, single, ctrl, relay), [None]
+    key = (method, method_note, single, record.signal, record.input_units, record.air_action, record.positioner_action,
+           numbers, relay.signal if relay is not None else None, ctrl.signal if ctrl is not None else None)
+    known = made.get(key)
+    if known is None:
+        element = _build_element(record, method, method_note, single, ctrl, relay)
+        made[key] = known = [element]
+        return element, known
+    element = object.__new__(SplitElement)
+    fields = element.__dict__
+    fields.update(known[0].__dict__)
+    fields["record"] = record
+    fields["assumptions"] = dict(known[0].assumptions)
+    return element, known
 
 
 def _build_element(
