@@ -1,8 +1,10 @@
 """The faster paths of ``check`` give what the plain paths give.
 
 - Records made from converted cells without a second validation
-  (``model.records.tag_from_converted``) against pydantic (a general-purpose validation
-  library) validating the same values into a ``Tag``.
+  (``model.records.tag_from_converted``, ``loop_from_converted``) against pydantic (a
+  general-purpose validation library) validating the same values into a ``Tag``, a ``Loop``;
+- the parse started before the command line is read, against openpyxl's cells;
+- valves of one set-up worked out once (``model.groups``), against building each alone.
 """
 
 from __future__ import annotations
@@ -12,7 +14,7 @@ from pathlib import Path
 from openpyxl import Workbook
 
 from loopdocs.model.from_rows import build_project
-from loopdocs.model.records import Tag
+from loopdocs.model.records import Loop, Tag
 from loopdocs.read import read_index
 
 HEADER = [
@@ -58,6 +60,11 @@ def test_records_are_what_pydantic_validates_from_the_same_values(tmp_path: Path
         assert list(record.__dict__) == list(validated.__dict__)
         assert [type(v) for v in record.__dict__.values()] == [type(v) for v in validated.__dict__.values()]
         assert record.model_dump_json() == validated.model_dump_json()
+    for loop in project.loops.values():
+        validated_loop = Loop(**{name: getattr(loop, name) for name in loop.model_fields_set})
+        assert loop == validated_loop and loop.model_fields_set == validated_loop.model_fields_set
+        assert loop.model_dump_json() == validated_loop.model_dump_json()
+    assert project.loops["T-3105"].tags == ("TIC-3105", "TV-3105A") and project.loops["T-3105"].service == "Fermenter 5 jacket"
     valve = project.tags["TV-3105A"]
     assert valve.co_end_pct == 50.0 and type(valve.cv) is float and valve.driven_by == "TIC-3105"
     assert len(valve.accessories) == 3 and project.tags["TIC-3105"].jb == "31"

@@ -280,8 +280,10 @@ def _kind_findings(project: Project, tag: Tag) -> Iterator[Finding]:
 
 def checks(project: Project) -> Iterator[Finding]:
     """Every rule of the module docstring, row by row in index order."""
+    temperature_signals = (Signal.TC, Signal.RTD)
     for tag in sorted(project.tags.values(), key=lambda t: t.row):
-        yield from _sensor_findings(project, tag)
+        if tag.sensor is not None or tag.signal in temperature_signals:  # else no sensor rule applies
+            yield from _sensor_findings(project, tag)
         units = _units_finding(project, tag)
         if units is not None:
             yield units

@@ -27,7 +27,7 @@ from typing import Any, Iterable
 
 from loopdocs.core.findings import Finding, Location, Severity
 from loopdocs.core.names import BIDI_CONTROLS
-from loopdocs.model.records import TAG_FIELDS, Loop, Project, Tag, tag_from_converted
+from loopdocs.model.records import TAG_FIELDS, Loop, Project, Tag, loop_from_converted, tag_from_converted
 from loopdocs.model.tagname import TagKind, TagParts, compile_tag_pattern, parse_tag, tag_kind
 from loopdocs.model.vocab import LIST_VOCAB_COLUMNS, VOCAB_COLUMNS
 from loopdocs.read import IndexTable
@@ -327,7 +327,10 @@ def natural_key(text: str) -> tuple:
     ['F-100', 'T-9', 'T-10']
     """
     return tuple((0, int(piece), "") if piece.isascii() and piece.isdigit() else (1, 0, piece)
-                 for piece in re.split(r"([0-9]+)", text) if piece)  # ASCII digits only: "¹" is a digit to isdigit
+                 for piece in _DIGIT_RUNS.split(text) if piece)  # ASCII digits only: "¹" is a digit to isdigit
+
+
+_DIGIT_RUNS = re.compile(r"([0-9]+)")
 
 
 def group_loops(tags: Iterable[Tag]) -> dict[str, Loop]:
@@ -340,5 +343,5 @@ def group_loops(tags: Iterable[Tag]) -> dict[str, Loop]:
         loop_tags = members[loop_id]
         controller = next((t for t in loop_tags if t.kind is TagKind.CONTROLLER and t.service), None)
         first = controller or next((t for t in loop_tags if t.service), None)
-        loops[loop_id] = Loop(id=loop_id, tags=tuple(t.tag for t in loop_tags), service=first.service if first else None)
+        loops[loop_id] = loop_from_converted(loop_id, tuple(t.tag for t in loop_tags), first.service if first else None)
     return loops

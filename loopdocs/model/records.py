@@ -172,6 +172,18 @@ class Loop(BaseModel):
     """The controller's service if there is one, else the first tag's that has one."""
 
 
+def loop_from_converted(loop_id: str, tags: tuple[str, ...], service: str | None) -> Loop:
+    """``Loop(id=loop_id, tags=tags, service=service)`` made without validating again
+    (the id and service are texts and ``tags`` a tuple of texts, as ``model.from_rows``
+    gives them); the same record, as :func:`tag_from_converted` does for a tag."""
+    record = Loop.__new__(Loop)
+    _set_attribute(record, "__dict__", {"id": loop_id, "tags": tags, "service": service})
+    _set_attribute(record, "__pydantic_fields_set__", {"id", "tags", "service"})
+    _set_attribute(record, "__pydantic_extra__", None)
+    _set_attribute(record, "__pydantic_private__", None)
+    return record
+
+
 class Project(BaseModel):
     """Everything read from one index: tags by name, loops by id, and cell origins."""
 

@@ -23,6 +23,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from enum import Enum
+from functools import lru_cache
 
 DEFAULT_TAG_PATTERN = (
     r"(?:(?P<area>[0-9A-Z]*[0-9][0-9A-Z]*)[-_ ])?"
@@ -187,9 +188,15 @@ def tag_kind(parts: TagParts) -> TagKind:
     >>> tag_kind(parse_tag("ZSC-101")), tag_kind(parse_tag("PSHH-2")), tag_kind(parse_tag("TIC-3"))
     (<TagKind.SWITCH: 'switch'>, <TagKind.SWITCH: 'switch'>, <TagKind.CONTROLLER: 'controller'>)
     """
-    if _SWITCH_LETTERS.fullmatch(parts.functions):
+    return _kind_of_functions(parts.functions)
+
+
+@lru_cache(maxsize=1024)
+def _kind_of_functions(functions: str) -> TagKind:
+    """:func:`tag_kind` by the succeeding letters alone (an index has a few dozen kinds of them)."""
+    if _SWITCH_LETTERS.fullmatch(functions):
         return TagKind.SWITCH
     for letter, kind in _KIND_BY_LETTER:
-        if letter in parts.functions:
+        if letter in functions:
             return kind
     return TagKind.OTHER
