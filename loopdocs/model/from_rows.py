@@ -259,6 +259,7 @@ def build_project(
     # Tags that hold values in the same columns share one set of the names given (a
     # pydantic record keeps one per record: 2 kB, the largest part of a record).
     shared_names: dict[tuple[str, ...], set[str]] = {}
+    fit: dict[tuple[str, ...], bool] = {}  # whether every name of the shape is a field of Tag
     converted, plain = _convert_cached, _PLAIN_TEXT_KEYS
     for row in _rows_of(table, release_rows):
         # one search over the row's texts joined by a newline (a character the search does
@@ -309,8 +310,9 @@ def build_project(
         names = shared_names.get(shape)
         if names is None:
             names = shared_names[shape] = set(values)
+            fit[shape] = names <= TAG_FIELDS
         # every value converted above has the type the record holds: no second validation
-        tags[tag_text] = tag_from_converted(values, names) if names <= TAG_FIELDS else Tag(**values)
+        tags[tag_text] = tag_from_converted(values, names) if fit[shape] else Tag(**values)
 
     project = Project(
         index_path=str(table.path), sheet=table.sheet,
