@@ -492,3 +492,31 @@ def test_check_does_not_import_drawing_libraries():
     out = subprocess.run([sys.executable, "-c", code, str(EXAMPLE)], capture_output=True, text=True, check=True,
                          cwd=REPO)
     assert out.stdout.strip() == "[]"
+
+
+def test_rows_nest_beside_what_hangs_below_the_row_above(example):
+    # Skyline stacking (common practice in drafting: what is drawn keeps clear, not the
+    # rows' bounding boxes): a row rises beside a valve body hanging below the row above,
+    # never across that row's line (no text on a line), and nothing overlaps or crosses. L-2101's switch row
+    # (its trip and interlock texts above its bubble) rises beside LV-2101B's body.
+    from loopdocs.draw.layout import LoopLayout
+    from loopdocs.draw.placement import MARGIN_MM, HEADER_MM, ROW_GAP_MM, place
+    from loopdocs.draw.stations import build_rows, series_groups, series_notes
+
+    saved = {}
+    for loop_id in example.loops:
+        rows, parts, fn_row = build_rows(example, loop_id)
+        series_notes(rows, example.tags)
+        series_groups(rows, example.tags)
+        layout = LoopLayout(loop_id=loop_id)
+        place(layout, rows, parts, fn_row)
+        stacked = MARGIN_MM + HEADER_MM + sum(r.top_mm + r.bottom_mm for r in rows) + ROW_GAP_MM * (len(rows) - 1) + MARGIN_MM
+        assert layout.height_mm <= stacked + 1e-6, loop_id
+        saved[loop_id] = stacked - layout.height_mm
+        # rows keep their order, each line at least a row gap plus its own top below the line above
+        for above, row in zip(rows, rows[1:]):
+            assert row.y >= above.y + ROW_GAP_MM + min(row.top_mm, 3.0) - 1e-6, loop_id
+        assert overlap_problems(layout) == [], loop_id
+        assert crossing_problems(layout) == [], loop_id
+    # on the example, the split loop whose switch row nests is more than 10 mm shorter
+    assert saved["L-2101"] > 10.0

@@ -383,25 +383,34 @@ def place(layout: Drawing, rows: list[Row], parts: LoopParts, fn_row: int | None
             gaps[column] = gaps.get(column, 0.0) + extra
         cols = _place_columns(used, left_ext, right_ext, gaps)
 
-    # Vertical: each row as tall as its stations and its line labels (as placed) need.
+    # Vertical: each row as tall as its stations and its line labels (as placed) need, and
+    # as high as the rows above let it (:func:`_row_y`)
     label_h = label_height()
+    above_rows: list[Rect] = []
     y = MARGIN_MM + HEADER_MM
     for row in rows:
         row_boxes = [s.drawn.box for s in row.stations]
         half = max(LINE_HALF_WIDTH_MM.get(k, 0.4) for k in [s.kind for s in row.segments] + [row.tail_kind])
         top = max([-b.y for b in row_boxes] + [3.0])
         bottom = max([b.bottom for b in row_boxes] + [3.0])
+        shapes = _row_shapes(row, cols, half)
         for seg in row.segments:
             if seg.label_x is None:
                 continue
             above, below = label_lines(seg)
+            width = _label_width(seg)
             if above:
-                top = max(top, half + 0.4 + label_h + (len(above) - 1) * LINE_PITCH_MM + seg.offset_mm)
+                rise = half + 0.4 + label_h + (len(above) - 1) * LINE_PITCH_MM + seg.offset_mm
+                top = max(top, rise)
+                shapes.append(Rect(seg.label_x - width / 2, -rise, width, rise))
             if below:
-                bottom = max(bottom, half + 0.4 + label_h + (len(below) - 1) * LINE_PITCH_MM + seg.offset_mm)
+                drop = half + 0.4 + label_h + (len(below) - 1) * LINE_PITCH_MM + seg.offset_mm
+                bottom = max(bottom, drop)
+                shapes.append(Rect(seg.label_x - width / 2, 0.0, width, drop))
         row.top_mm, row.bottom_mm = top, bottom
-        row.y = y + top
-        y = row.y + bottom + ROW_GAP_MM
+        row.y = _row_y(shapes, above_rows, MARGIN_MM + HEADER_MM + top, y + top)
+        above_rows += [Rect(b.x, b.y + row.y, b.width, b.height) for b in shapes]
+        y = max(y, row.y + bottom + ROW_GAP_MM)
     height = y - ROW_GAP_MM + MARGIN_MM
 
     layout.width_mm = round(cols.width, 3)
@@ -411,6 +420,48 @@ def place(layout: Drawing, rows: list[Row], parts: LoopParts, fn_row: int | None
     layout.width_mm = round(max(layout.width_mm, box.right + MARGIN_MM), 3)
     layout.height_mm = round(max(layout.height_mm, box.bottom + MARGIN_MM), 3)
     return _bands(layout, cols)
+
+
+def _row_shapes(row: Row, cols: _Columns, half_mm: float) -> list[Rect]:
+    """What a row draws, relative to its line (y = 0): each station's box (a station in
+    a junction box or cabinet across its column, where the outline runs) and the line
+    from its first station to the diagram's right edge (its end or a connector: taken
+    long, so no row below ever rises across it)."""
+    shapes = []
+    for st in row.stations:
+        box = st.drawn.box
+        x0, x1 = cols.ref[st.column] + box.x, cols.ref[st.column] + box.right
+        if st.enclosure:
+            x0, x1 = min(x0, cols.left[st.column]), max(x1, cols.right[st.column])
+        shapes.append(Rect(x0, box.y, x1 - x0, box.height))
+    if shapes:
+        start = min(r.x for r in shapes)
+        shapes.append(Rect(start, -half_mm, cols.width - start, 2 * half_mm))
+    return shapes
+
+
+ROW_CLEAR_MM = 1.5
+"""Least horizontal space between what a row draws and what a row above draws beside it."""
+
+
+def _row_y(shapes: list[Rect], above: list[Rect], highest_mm: float, stacked_mm: float) -> float:
+    """y of a row's line: as high as it goes with ``ROW_GAP_MM`` under everything the rows
+    above draw (``above``, in diagram mm) that stands over its own ``shapes`` (relative to
+    the line), ``ROW_CLEAR_MM`` being enough beside it; never above ``highest_mm`` (its
+    top under the header), never lower than ``stacked_mm`` (stacked under the whole
+    rows above). A valve's body hanging below its row no longer pushes down
+    the next row's texts that stand right of it (skyline stacking, common practice in
+    drafting: what is drawn keeps clear, not the rows' bounding boxes).
+
+    >>> _row_y([Rect(50, -10, 10, 12)], [Rect(0, 20, 20, 30), Rect(0, 19.5, 100, 1)], 10, 63)
+    33.5
+    """
+    y = highest_mm
+    for a in above:
+        for b in shapes:
+            if a.x < b.right + ROW_CLEAR_MM and b.x < a.right + ROW_CLEAR_MM:
+                y = max(y, a.bottom + ROW_GAP_MM - b.y)
+    return min(y, stacked_mm)
 
 
 def _assemble(layout: Drawing, rows: list[Row], cols: _Columns, fn_row: int | None) -> None:
@@ -644,8 +695,9 @@ def _bands(layout: Drawing, cols: _Columns) -> list[Band]:
     layout.free_corner_mm = corner
     for i, (_, x) in enumerate(cols.boundaries):
         # thin chain line (ISO 128-2 type 04.1, from memory), unlike any signal line; those
-        # right of the field band end above the free corner (the field band's edge does not)
-        bottom = corner[1] - FREE_CORNER_PAD_MM if corner and i else layout.height_mm - MARGIN_MM
+        # right of the free corner's left edge end above it (the field band's edge runs
+        # down beside a corner that starts there)
+        bottom = corner[1] - FREE_CORNER_PAD_MM if corner and x > corner[0] + 1e-6 else layout.height_mm - MARGIN_MM
         layout.paths.append(Path(((x, top), (x, bottom)), stroke_mm=THIN_MM,
                                  dash_mm=(8.0, 1.5, 1.0, 1.5), role="band-boundary"))
     return bands
@@ -653,22 +705,29 @@ def _bands(layout: Drawing, cols: _Columns) -> list[Band]:
 
 FREE_CORNER_PAD_MM = 2.0
 """Space between the lowest item right of the field band and the free corner below it."""
-FREE_CORNER_MIN_MM = (60.0, 15.0)
-"""Smallest free corner worth reporting (width, height): room for one table."""
+FREE_CORNER_MIN_MM = (40.0, 15.0)
+"""Smallest free corner worth reporting (width, height): room for one narrow table (the
+sheet's drawing area may add what lies right of the diagram)."""
 
 
 def _free_corner(layout: Drawing, boundaries: list[float]) -> tuple[float, float] | None:
-    """The top left of the empty lower right of the diagram: right of the field band's
-    edge (the first band boundary), below everything drawn there; ``None`` when smaller
-    than ``FREE_CORNER_MIN_MM``."""
+    """The top left of the largest empty lower right of the diagram: its left edge at the
+    field band's edge (the first band boundary) or, where that leaves more room, at the
+    right of something drawn (the valves' air header of a pneumatic split, the I/O cards
+    under the controller), its top below everything drawn right of it; ``None`` when
+    smaller than ``FREE_CORNER_MIN_MM``."""
     if not boundaries:
         return None
-    x = boundaries[0]
     boxes = [s.box for s in layout.symbols] + [t.box for t in layout.texts] + [d.box for d in layout.dots]
     boxes += [f.rect.grown((f.stroke_mm or 0) / 2) for f in layout.frames]
     for item in (*layout.lines, *layout.paths):
         boxes += item.segment_boxes()
-    y = max((b.bottom for b in boxes if b.right > x + 1e-6), default=0.0) + FREE_CORNER_PAD_MM
-    if layout.width_mm - x < FREE_CORNER_MIN_MM[0] or layout.height_mm - y < FREE_CORNER_MIN_MM[1]:
-        return None
-    return round(x, 3), round(y, 3)
+    best = None
+    for x in sorted({boundaries[0], *(round(b.right + FREE_CORNER_PAD_MM, 3) for b in boxes)}):
+        y = max((b.bottom for b in boxes if b.right > x + 1e-6), default=0.0) + FREE_CORNER_PAD_MM
+        if layout.width_mm - x < FREE_CORNER_MIN_MM[0] or layout.height_mm - y < FREE_CORNER_MIN_MM[1]:
+            continue
+        area = (layout.width_mm - x) * (layout.height_mm - y)
+        if best is None or area > best[0] + 1e-6 or (abs(area - best[0]) <= 1e-6 and x == boundaries[0]):
+            best = (area, round(x, 3), round(y, 3))
+    return None if best is None else best[1:]
