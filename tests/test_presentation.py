@@ -229,13 +229,33 @@ def test_sheet_terminal_and_workbook_show_the_same_tables(example, cset, tmp_pat
         for view in present_tables(tables):
             # the sheet: caption (tag, kind words, tolerance), heads, rows, notes
             merged = view.kind == "fail action" and f"{view.tag} {view.words}" not in on_sheet
+            strokes = view.kind == "final element" and f"{view.tag} {view.words}" not in on_sheet
             key = next(k for k in on_sheet if k.endswith(f" {view.words}")
-                       and view.tag in k[:-len(view.words) - 1].split(", ")) if merged else f"{view.tag} {view.words}"
+                       and view.tag in k[:-len(view.words) - 1].split(", ")) if merged or strokes \
+                else f"{view.tag} {view.words}"
             raw = on_sheet[key]
             shown = resolve_sheet_notes(raw, notes)
             referring += shown != raw
-            assert shown["caption"] == f"{key}\ntolerance {view.tolerance}"
-            if merged:
+            if strokes:
+                # the stroke tests of a loop's valves in one table: a signal column per valve,
+                # the expected travel once; the valve's own signal tolerance named by its tag
+                # where the valves' differ (render.caltables.merge_strokes)
+                head, tolerance = shown["caption"].split("\ntolerance ")
+                assert head == key
+                sign = re.search(r"= (±\S+ \S+) =", view.tolerance).group(1)
+                assert tolerance == view.tolerance or (f"{sign} ({view.tag})" in tolerance and
+                                                       tolerance.endswith(view.tolerance.split(sign)[1]))
+                col = list(shown["heads"]).index(f"{view.heads[0]} {view.tag}")
+                assert shown["heads"][-1] == view.heads[1]
+                assert tuple((r[col], r[-1]) for r in shown["rows"]) == view.rows
+                printed = set(map(_plain, shown["notes"]))
+                for n in view.note_texts:
+                    assert _plain(n) in printed or _plain(f"{view.tag}: {n}") in printed, n
+            else:
+                assert shown["caption"] == f"{key}\ntolerance {view.tolerance}"
+            if strokes:
+                pass
+            elif merged:
                 # the fail-action tests of a loop's valves in one table: a Tag column, the
                 # valve's own row, its instruction worded for every row (render.caltables)
                 assert tuple(shown["heads"]) == ("Tag", *view.heads)

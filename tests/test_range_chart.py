@@ -325,3 +325,32 @@ def test_natural_size_and_svg(charts, checked):
                 assert float(element.get("stroke-width")) in PEN_WIDTHS
         assert svg == range_chart_svg(group, checked.findings)  # deterministic bytes
         assert parse_svg(svg).find("{http://www.w3.org/2000/svg}title").text == f"Range chart {controller}"
+
+
+def test_narrow_chart_keeps_curves_lettering_and_height(charts, checked):
+    # The chart a short sheet prints (NARROW_CHART_MM wide): the same curves (docs/design.md
+    # §4.3, the travel of the settings), lettering at 2.5 mm capitals (ISO 3098, from
+    # memory: 3.43 mm DejaVu Sans type), no taller than at its own width, its plot at least
+    # NARROW_PLOT_MM tall, nothing overlapping and nothing past its edges.
+    from loopdocs.draw.range_chart import NARROW_CHART_MM, NARROW_PLOT_MM, TEXT_MM
+
+    for controller, (group, wide) in charts.items():
+        narrow = chart_layout(group, checked.findings, NARROW_CHART_MM)
+        assert narrow.width_mm == NARROW_CHART_MM and narrow.height_mm <= wide.height_mm, controller
+        assert narrow.plot.height >= NARROW_PLOT_MM - 1e-6 and narrow.plot.right < NARROW_CHART_MM, controller
+        assert narrow.curves == wide.curves, controller
+        assert min(t.size_mm for t in narrow.texts) >= TEXT_MM - 1e-9, controller
+        assert no_overlaps(narrow) == [], controller
+        assert chart_overlap_problems(narrow) == [], controller
+        # a title longer than the chart wraps to it, every word kept
+        titles = [t for t in narrow.texts if t.role == "title"]
+        assert " ".join(t.text for t in titles).split() == narrow.description.split()
+        # the drawn path read back through the narrower plot gives the same curve
+        for element in group.elements:
+            path = next((q for q in narrow.paths if q.role == f"curve:{element.tag}"), None)
+            if path is None:
+                continue
+            data = [((x - narrow.plot.x) / narrow.plot.width * 100.0, (narrow.plot.bottom - y) / narrow.plot.height * 100.0)
+                    for x, y in path.points]
+            assert all(math.isclose(a, c, abs_tol=1e-9) and math.isclose(b, d, abs_tol=1e-9)
+                       for (a, b), (c, d) in zip(data, narrow.curves[element.tag])), element.tag

@@ -60,22 +60,25 @@ def _chart_groups(project: Project):
 
 
 def loop_charts(project: Project, loop_id: str, findings: Sequence[Finding] = (),
-                marks: RevisionMarks | None = None) -> list[tuple[str, str]]:
-    """``(controller, SVG text)`` of the range chart of each split group of ``loop_id``."""
-    from loopdocs.draw.range_chart import range_chart_svg
+                width_mm: float | None = None, marks: RevisionMarks | None = None) -> list[tuple[str, str]]:
+    """``(controller, SVG text)`` of the range chart of each split group of ``loop_id``
+    (``width_mm``: drawn that wide, ``range_chart.NARROW_CHART_MM`` for a sheet short of room)."""
+    from loopdocs.draw.range_chart import CHART_WIDTH_MM, range_chart_svg
 
     if marks:  # a revision mark beside the line label of each changed element
-        return [(g.controller, marked_chart_svg(g, findings, marks)) for g in _chart_groups(project) if g.loop == loop_id]
-    return [(g.controller, range_chart_svg(g, findings)) for g in _chart_groups(project) if g.loop == loop_id]
+        return [(g.controller, marked_chart_svg(g, findings, width_mm or CHART_WIDTH_MM, marks))
+                for g in _chart_groups(project) if g.loop == loop_id]
+    return [(g.controller, range_chart_svg(g, findings, width_mm or CHART_WIDTH_MM))
+            for g in _chart_groups(project) if g.loop == loop_id]
 
 
-def marked_chart_svg(group, findings: Sequence[Finding], marks: RevisionMarks) -> str:
+def marked_chart_svg(group, findings: Sequence[Finding], width_mm: float, marks: RevisionMarks) -> str:
     """SVG text of a range chart with the revision marks of ``marks``."""
     from loopdocs.draw.range_chart import chart_layout
     from loopdocs.draw.revision_marks import mark_chart
     from loopdocs.draw.svg import svg_document
 
-    chart = chart_layout(group, findings)
+    chart = chart_layout(group, findings, width_mm)
     mark_chart(chart, marks)
     return svg_document(chart)
 

@@ -46,6 +46,12 @@ from loopdocs.model.groups import SplitElement, SplitGroup
 
 CHART_WIDTH_MM = 160.0
 CHART_HEIGHT_MM = 95.0
+NARROW_CHART_MM = 130.0
+"""Width of the chart where a loop sheet is short of room (``render.sheet`` uses it when
+it saves a page): the plot 92 mm wide instead of 122, the same lettering, the title
+wrapped when longer and the plot lower by the lines that adds (at least
+``NARROW_PLOT_MM``), so that the chart is no taller than at its own width."""
+NARROW_PLOT_MM = 40.0
 TEXT_MM = 3.43
 """Font size of the chart's labels: 2.5 mm capitals (DejaVu Sans capitals are 0.729 em),
 the lettering of the loop diagram beside it (docs/design.md §8.4)."""
@@ -321,20 +327,31 @@ def _subtitle(group: SplitGroup) -> str | None:
     return text
 
 
-def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeChart:
+def chart_layout(group: SplitGroup, findings: Sequence[Finding] = (), width_mm: float = CHART_WIDTH_MM) -> RangeChart:
     """Place the range chart of ``group``; ``findings`` of the project (those on the
     group's tags, error or warning, are marked). Sizes in mm, natural size
-    ``CHART_WIDTH_MM`` x at most ``CHART_HEIGHT_MM`` (taller only when findings need a list below)."""
+    ``CHART_WIDTH_MM`` x at most ``CHART_HEIGHT_MM`` (taller only when findings need a list below).
+    ``width_mm`` narrower than ``CHART_WIDTH_MM`` (``NARROW_CHART_MM``): the plot narrower by
+    as much, the title wrapped to the width (one line less of plot height per line more)."""
     shared = group.method in ("positioner", "pneumatic") and bool(group.elements)
     # under the plot: CO ticks and title; the shared signal's axis, ticks and title
     bottom_space = (SIGNAL_AXIS_MM + AXIS_TITLE_MM if shared else CO_TITLE_MM) + TEXT_MM + 2.5
     subtitle = _subtitle(group)
-    width = max(CHART_WIDTH_MM, round(text_width_mm(_title(group), TITLE_MM, bold=True) + 1.5, 1))
+    title_width = round(text_width_mm(_title(group), TITLE_MM, bold=True) + 1.5, 1)
+    # as wide as its title when the title is longer (3.5 mm bold on one line), unless
+    # set narrow: then the title wraps
+    width = max(width_mm, title_width) if width_mm >= CHART_WIDTH_MM else width_mm
+    titles = wrap_text(_title(group), width - 1.5, TITLE_MM, bold=True) if title_width > width else [_title(group)]
     subtitles = wrap_text(subtitle, width - 1.0, TEXT_MM) if subtitle else []
-    plot_top = PLOT_TOP_MM + LINE_MM * len(subtitles)
-    height = min(CHART_HEIGHT_MM, plot_top + PLOT_HEIGHT_MM + bottom_space)
-    plot_rect = Rect(PLOT_LEFT_MM, plot_top, PLOT_RIGHT_MM - PLOT_LEFT_MM, height - bottom_space - plot_top)
-    # as wide as its title when the title is longer (3.5 mm bold on one line)
+    plot_top = PLOT_TOP_MM + LINE_MM * (len(subtitles) + len(titles) - 1)
+    plot_height = PLOT_HEIGHT_MM
+    if width < CHART_WIDTH_MM:
+        # no taller than at its own width: the plot gives up the lines the wrapping adds
+        wide_lines = len(wrap_text(subtitle, CHART_WIDTH_MM - 1.0, TEXT_MM)) if subtitle else 0
+        plot_height = max(NARROW_PLOT_MM, plot_height - LINE_MM * (len(subtitles) + len(titles) - 1 - wide_lines))
+    height = min(CHART_HEIGHT_MM, plot_top + plot_height + bottom_space)
+    plot_right = width - (CHART_WIDTH_MM - PLOT_RIGHT_MM)
+    plot_rect = Rect(PLOT_LEFT_MM, plot_top, plot_right - PLOT_LEFT_MM, height - bottom_space - plot_top)
     chart = RangeChart(controller=group.controller, loop_id=group.loop,
                        width_mm=width, height_mm=height, plot=plot_rect)
     chart.title = f"Range chart {group.controller}"
@@ -347,9 +364,10 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = ()) -> RangeCh
         placer.take(text.box)
         return text
 
-    put(_txt(_title(group), 0.5, 1.0 + ASCENT_EM * TITLE_MM, "start", "title", TITLE_MM, bold=True))
+    for i, line in enumerate(titles):
+        put(_txt(line, 0.5, 1.0 + i * LINE_MM + ASCENT_EM * TITLE_MM, "start", "title", TITLE_MM, bold=True))
     for i, line in enumerate(subtitles):
-        put(_txt(line, 0.5, 6.3 + i * LINE_MM + ASCENT_EM * TEXT_MM, "start", "subtitle"))
+        put(_txt(line, 0.5, 6.3 + (i + len(titles) - 1) * LINE_MM + ASCENT_EM * TEXT_MM, "start", "subtitle"))
 
     # shading first (painted under everything): gaps, overlaps of staged neighbours
     bands: list[tuple[float, float, str, str]] = []  # (co from, co to, kind, label)
@@ -656,9 +674,9 @@ def split_groups_to_chart(groups: Sequence[SplitGroup]) -> list[SplitGroup]:
     return [g for g in groups if g.is_split]
 
 
-def range_chart_svg(group: SplitGroup, findings: Sequence[Finding] = ()) -> str:
-    """SVG text of the range chart of ``group`` (natural size ``CHART_WIDTH_MM`` wide)."""
+def range_chart_svg(group: SplitGroup, findings: Sequence[Finding] = (), width_mm: float = CHART_WIDTH_MM) -> str:
+    """SVG text of the range chart of ``group`` (natural size ``CHART_WIDTH_MM`` wide, or ``width_mm``)."""
     from loopdocs.draw.svg import svg_document
 
-    return svg_document(chart_layout(group, findings))
+    return svg_document(chart_layout(group, findings, width_mm))
 

@@ -42,6 +42,18 @@ LINE_HEIGHT = 1.1
 """Line height of the calibration tables, x the type (``sheet.css`` ``table.cal``)."""
 ROW_PAD_MM = 0.25 + 0.25 + 0.25
 """Top and bottom cell padding and one 0.25 mm rule per row (``sheet.css`` ``table.cal``)."""
+NOTE_PAD_MM = 2.3
+"""Left and right padding of the notes cell under a table and its rules (1 + 1 + 0.25 mm,
+``sheet.css`` ``table.cal td``; 0.05 mm spare)."""
+BODY_LINE_HEIGHT = 1.0
+"""Line height of a table's value rows (``sheet.css`` ``table.cal tbody td``): figures have
+no descenders, the rules between rows keep them apart; captions, heads and notes keep
+``LINE_HEIGHT``."""
+BODY_PAD_MM = 0.15 + 0.15 + 0.25
+"""Top and bottom padding of a value cell and its 0.25 mm rule (``sheet.css`` ``table.cal tbody td``)."""
+WRAP_SLACK_MM = 0.4
+"""Added to the longest word of a wrapped column (:meth:`DisplayTable.wrapped`): the
+renderer's measure of a word may differ a little from ours, and a word must never break."""
 
 
 @dataclass(frozen=True)
@@ -64,6 +76,9 @@ class DisplayTable:
     """Numbers of the sheet notes that hold this table's shared notes (:func:`share_notes`)."""
     min_width_mm: float = MIN_TABLE_MM
     """Narrowest the table is printed: its columns are stretched to it (:meth:`widened`)."""
+    wrap_mm: float = 0.0
+    """Widest a column of words is set, its cells wrapped at their spaces (0: each cell on
+    one line; :meth:`wrapped`)."""
     caption_mark_mm: tuple[float, float] = (0.0, 0.0)
     """Width and height of the revision marks beside the caption's tags (``draw.revision_marks``)."""
 
@@ -108,6 +123,9 @@ class DisplayTable:
                           for line in wrap_text(head, natural / n + 3.0, TABLE_TEXT_MM, bold=True)[:n])
                       for n in ((2, 3) if natural > LONG_HEAD_MM else (2,))]
             cells = max((text_width_mm(row[i], TABLE_TEXT_MM) for row in self.rows), default=0.0)
+            if self.wrap_mm and i in self.text_columns:
+                longest = max((text_width_mm(w, TABLE_TEXT_MM) for row in self.rows for w in row[i].split()), default=0.0)
+                cells = max(longest + WRAP_SLACK_MM, min(cells, self.wrap_mm - CELL_PAD_MM))
             # a head breaks at its spaces only (not after the hyphen of a tag): its longest word fits
             word = max(text_width_mm(w, TABLE_TEXT_MM, bold=True) for w in head.split()) if head.strip() else 0.0
             widths.append(max(min(natural, *broken), word, cells) + CELL_PAD_MM)
@@ -118,6 +136,26 @@ class DisplayTable:
     def width_mm(self) -> float:
         return round(sum(self.column_widths_mm), 1)
 
+    def wrapped(self, column_mm: float) -> "DisplayTable":
+        """The same table with its columns of words at most ``column_mm`` wide (a longer
+        cell on two or more lines): narrower, a little taller."""
+        return replace(self, wrap_mm=column_mm)
+
+    def row_lines(self, row: tuple[str, ...]) -> int:
+        """Lines a row takes: one, or as many as its longest wrapped cell (:meth:`wrapped`)."""
+        if not self.wrap_mm:
+            return 1
+        from loopdocs.draw.text import wrap_text
+
+        widths = self.column_widths_mm
+        return max([1] + [len(wrap_text(row[i], widths[i] - CELL_PAD_MM + WRAP_SLACK_MM / 2, TABLE_TEXT_MM))
+                          for i in self.text_columns if row[i]])
+
+    def narrowed(self, width_mm: float) -> "DisplayTable":
+        """The same table printed as narrow as its columns allow, at least ``width_mm``:
+        its caption and notes wrap into more lines, so it is taller."""
+        return replace(self, min_width_mm=width_mm)
+
     def widened(self, width_mm: float) -> "DisplayTable":
         """The same table printed at least ``width_mm`` wide: its caption and notes wrap
         into fewer lines, so it is shorter (a wide, low table fits under a range chart)."""
@@ -127,14 +165,15 @@ class DisplayTable:
     def height_mm(self) -> float:
         """Height as printed (``sheet.css`` ``table.dense``, ``table.cal``): the caption
         (tag in 3.5 mm type, words and tolerance wrapped to the width), the heads at
-        their column widths, one line per row, the notes wrapped; each cell line
-        ``LINE_HEIGHT`` x the type, 0.5 mm padding and a 0.25 mm rule per row (within 2 mm of rendered
-        tables, tests/test_render.py, with ``SPARE_MM`` added)."""
+        their column widths, the value rows (``BODY_LINE_HEIGHT``, ``BODY_PAD_MM``; a wrapped
+        cell's lines, :meth:`row_lines`), the notes wrapped; each other line ``LINE_HEIGHT``
+        x the type, 0.5 mm padding and a 0.25 mm rule per row (with ``SPARE_MM`` added: never
+        below the rendered height and at most 7 mm over, tests/test_sheet_layout.py)."""
         from loopdocs.draw.text import text_width_mm, wrap_text
 
         line = TABLE_TEXT_MM * LINE_HEIGHT
         rule = ROW_PAD_MM
-        inner = max(self.width_mm - CELL_PAD_MM, 10.0)
+        inner = max(self.width_mm - NOTE_PAD_MM, 10.0)
         # the tag in larger type heads the caption, each of its words unbroken: a word as
         # wide stands in for each (wrap_text drops leading spaces)
         n_mm = text_width_mm("n", TABLE_TEXT_MM)
@@ -150,7 +189,8 @@ class DisplayTable:
                           for h, w in zip(self.heads, self.column_widths_mm)), default=1)
         foot = self.foot_lines
         notes = sum(len(wrap_text(n, inner, TABLE_TEXT_MM)) for n in foot) * line + (rule if foot else 0.0)
-        return round(caption + head_lines * line + rule + len(self.rows) * (line + rule) + notes + SPARE_MM, 1)
+        rows = sum(self.row_lines(row) * TABLE_TEXT_MM * BODY_LINE_HEIGHT + BODY_PAD_MM for row in self.rows)
+        return round(caption + head_lines * line + rule + rows + notes + SPARE_MM, 1)
 
 
 def display_table(view: TableView) -> DisplayTable:
@@ -163,10 +203,74 @@ def display_table(view: TableView) -> DisplayTable:
 def display_tables(tables: Sequence[CalibrationTable]) -> list[DisplayTable]:
     """The printed tables of one loop in the order given (loop checks of one split group
     side by side, ``presentation.present_tables``); the fail-action tests of the loop's
-    valves in one table, a row per valve (:func:`merge_fail_actions`)."""
+    valves in one table, a row per valve (:func:`merge_fail_actions`); their stroke tests
+    at the same travel points in one table, a signal column per valve (:func:`merge_strokes`)."""
     views = present_tables(tables)
     printed = [display_table(view) for view in views]
-    return merge_fail_actions(printed, [view.kind == FAIL_ACTION for view in views])
+    final = {id(table) for view, table in zip(views, printed) if view.kind == FINAL_ELEMENT}
+    kept = merge_fail_actions(printed, [view.kind == FAIL_ACTION for view in views])
+    return merge_strokes(kept, [id(table) in final for table in kept])
+
+
+FINAL_ELEMENT = "final element"
+TRAVEL_HEAD = "Expect % travel"
+_TOLERANCE_PARTS = re.compile(r"^(.*? = )(±\S+ \S+)( = .*)$")
+
+
+def merge_strokes(tables: Sequence[DisplayTable], stroke: Sequence[bool]) -> list[DisplayTable]:
+    """The valve stroke tables (``stroke[i]``) of the loop's valves that expect the same
+    travel at the same rows, with their signal in the same unit, as one table at the place
+    of the first: a signal column per valve (``Apply mA LV-1A``), the travel column once.
+    A tolerance that differs only in the signal's units is given per valve, in brackets
+    after each; each valve's notes are kept, headed by its tag where they do not name it
+    (a note all of them print word for word, once). The terminal, the workbook and
+    ``verify`` keep one stroke test per valve: only the printing is shared.
+
+    >>> a = DisplayTable("PV-1A", "valve stroke", ("Apply psig", "Expect % travel"), (("3.0", "0.0"), ("4.0", "100.0")),
+    ...                  "±1 % of span = ±0.01 psig = ±1 % travel", ("opens 3 to 4 psig",))
+    >>> b = replace(a, tag="PV-1B", rows=(("4.0", "0.0"), ("7.0", "100.0")), tolerance="±1 % of span = ±0.03 psig = ±1 % travel",
+    ...             notes=("opens 4 to 7 psig",))
+    >>> (m,) = merge_strokes([a, b], [True, True])
+    >>> m.tag, m.heads, m.rows
+    ('PV-1A, PV-1B', ('Apply psig PV-1A', 'Apply psig PV-1B', 'Expect % travel'), (('3.0', '4.0', '0.0'), ('4.0', '7.0', '100.0')))
+    >>> m.tolerance, m.notes
+    ('±1 % of span = ±0.01 psig (PV-1A), ±0.03 psig (PV-1B) = ±1 % travel', ('PV-1A: opens 3 to 4 psig', 'PV-1B: opens 4 to 7 psig'))
+    """
+    groups: dict[tuple, list[int]] = {}
+    for i, (table, merge) in enumerate(zip(tables, stroke)):
+        if not merge or len(table.heads) != 2 or table.heads[1] != TRAVEL_HEAD or table.text_columns:
+            continue
+        parts = _TOLERANCE_PARTS.match(table.tolerance) if table.tolerance else None
+        tolerance_key = (parts.group(1), parts.group(3)) if parts else (table.tolerance,)
+        travel = tuple(row[1] for row in table.rows)
+        groups.setdefault((table.heads, travel, tolerance_key, table.tolerance_basis, table.title), []).append(i)
+    merged: dict[int, DisplayTable] = {}
+    dropped: set[int] = set()
+    for members in groups.values():
+        if len(members) < 2:
+            continue
+        parts = [tables[i] for i in members]
+        first = parts[0]
+        tolerance = first.tolerance
+        if len({t.tolerance for t in parts}) > 1:
+            pieces = [_TOLERANCE_PARTS.match(t.tolerance) for t in parts]
+            tolerance = pieces[0].group(1) + ", ".join(f"{m.group(2)} ({t.tag})" for m, t in zip(pieces, parts)) \
+                + pieces[0].group(3)
+        shared = set.intersection(*(set(t.notes) for t in parts))
+        notes: list[str] = []
+        emphasis: list[str] = []
+        for table in parts:
+            for note, e in zip(table.notes, table.note_emphasis or ("",) * len(table.notes)):
+                text = note if note in shared or table.tag in note else f"{table.tag}: {note}"
+                if text not in notes:
+                    notes.append(text)
+                    emphasis.append(e)
+        merged[members[0]] = replace(
+            first, tag=", ".join(t.tag for t in parts), heads=(*(f"{first.heads[0]} {t.tag}" for t in parts), TRAVEL_HEAD),
+            rows=tuple((*(t.rows[k][0] for t in parts), row[1]) for k, row in enumerate(first.rows)),
+            tolerance=tolerance, notes=tuple(notes), note_emphasis=tuple(emphasis))
+        dropped |= set(members[1:])
+    return [merged.get(i, table) for i, table in enumerate(tables) if i not in dropped]
 
 
 FAIL_ACTION = "fail action"

@@ -16,7 +16,8 @@ positions in mm out.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+import random
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass, replace
 from typing import Any
 
@@ -130,38 +131,74 @@ def used_height_mm(placed: Sequence[Placed]) -> float:
     return max((p.bottom_mm for p in placed), default=0.0)
 
 
-def _orders(boxes: Sequence[Box]) -> list[list[Box]]:
+SHUFFLES = 400
+"""Further orders tried, shuffled with a fixed seed, when the first three leave more than
+one page (the packer is greedy: another order may fit a page where these do not)."""
+
+
+def _orders(boxes: Sequence[Box]) -> Iterator[list[Box]]:
     """Orders worth trying for the tables: as given (the reading order, kept when no
-    other packs better), tallest first (columns fill evenly), widest first."""
-    return [list(boxes), sorted(boxes, key=lambda b: -b.height_mm), sorted(boxes, key=lambda b: -b.width_mm)]
+    other packs better), tallest first (columns fill evenly), widest first; then
+    ``SHUFFLES`` shuffled orders (seeded: the same boxes give the same orders)."""
+    yield list(boxes)
+    yield sorted(boxes, key=lambda b: -b.height_mm)
+    yield sorted(boxes, key=lambda b: -b.width_mm)
+    rnd = random.Random(len(boxes))
+    for _ in range(SHUFFLES if len(boxes) > 1 else 0):
+        order = list(boxes)
+        rnd.shuffle(order)
+        yield order
+
+
+def _reading(p: Placed) -> tuple[float, float]:
+    """Where a reader meets a placed box: column by column (left edges 10 mm apart count
+    as one column), top down."""
+    return (round(p.x_mm / 10.0), p.y_mm)
+
+
+def out_of_order(keys: Sequence[Any], rank: dict[Any, int]) -> int:
+    """Pairs of boxes a reader meets in the wrong order (the order given: the loop's
+    measurement first, then the split check, then each valve's tables).
+
+    >>> out_of_order(["b", "a", "c"], {"a": 0, "b": 1, "c": 2})
+    1
+    """
+    ranks = [rank[k] for k in keys]
+    return sum(1 for i, a in enumerate(ranks) for b in ranks[i + 1:] if a > b)
 
 
 def pack_pages(first: Sequence[Box], rest: Sequence[Box], width_mm: float, height_mm: float,
                gap_mm: float = GAP_MM, taken: Sequence[Placed] = ()) -> list[list[Placed]]:
     """The pages of one sheet: ``first`` (diagram, charts) placed in order on the first
-    page, then ``rest`` (tables) in the order that leaves the fewest pages and packs the
-    first page fullest; what does not fit continues on the next pages (a box larger than
+    page, then ``rest`` (tables) in the order that leaves the fewest pages, packs the
+    first page fullest and is read most nearly in the order given (:func:`_orders`,
+    :func:`out_of_order`); what does not fit continues on the next pages (a box larger than
     an empty page gets a page of its own, at the top left). ``taken``: parts of every
     page that hold something else (the side column's text), left free; not returned."""
     best: list[list[Placed]] | None = None
     best_score: tuple[float, ...] = ()
     plain_first = [replace(b, free_corner_mm=None) for b in first]
-    for order in _orders(rest):
-        page, left = pack(plain_first, width_mm, height_mm, gap_mm, taken)
-        # a free corner (of the diagram) opens to the tables only, once the charts are placed
-        corners = {b.key: b.free_corner_mm for b in first}
-        page = [replace(p, box=replace(p.box, free_corner_mm=corners.get(p.box.key))) if i >= len(taken) else p
-                for i, p in enumerate(page)]
-        page, more = pack(order, width_mm, height_mm, gap_mm, page)
+    start, first_left = pack(plain_first, width_mm, height_mm, gap_mm, taken)
+    # a free corner (of the diagram) opens to the tables only, once the charts are placed
+    corners = {b.key: b.free_corner_mm for b in first}
+    start = [replace(p, box=replace(p.box, free_corner_mm=corners.get(p.box.key))) if i >= len(taken) else p
+             for i, p in enumerate(start)]
+    rank = {b.key: i for i, b in enumerate(rest)}
+    for k, order in enumerate(_orders(rest)):
+        if k == 3 and best is not None and len(best) == 1:
+            break  # the shuffled orders only where the first three leave a second page
+        page, more = pack(order, width_mm, height_mm, gap_mm, start)
         pages = [page[len(taken):]]
-        left = left + more
+        left = first_left + more
         while left:
             page, still = pack(left, width_mm, height_mm, gap_mm, taken)
             if len(page) == len(taken):
                 page, still = [*taken, Placed(left[0], 0.0, 0.0)], left[1:]
             pages.append(page[len(taken):])
             left = still
-        score = (len(pages), -sum(p.box.width_mm * p.box.height_mm for p in pages[0]), used_height_mm(pages[-1]))
+        score = (len(pages), -sum(p.box.width_mm * p.box.height_mm for p in pages[0]),
+                 out_of_order([p.box.key for page in pages for p in sorted(page, key=_reading) if p.box.key in rank], rank),
+                 used_height_mm(pages[-1]))
         if best is None or score < best_score:
             best, best_score = pages, score
     return best or [[]]

@@ -136,6 +136,7 @@ def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], spl
     project's split groups for every sheet (``groups_for`` keeps the last project only).
     """
     from loopdocs.draw.export import loop_charts, loop_diagram_svg
+    from loopdocs.draw.range_chart import NARROW_CHART_MM
 
     loop = project.loops[loop_id]
     tags = project.tags_of(loop_id)
@@ -149,6 +150,7 @@ def loop_pieces(project: Project, loop_id: str, findings: Sequence[Finding], spl
         linked_tags=tuple(part.tags[name] for name in part.tags if name not in own),
         diagram_svg=loop_diagram_svg(part, loop_id, marks),
         range_charts_svg=tuple(svg for _, svg in loop_charts(part, loop_id, findings, marks=marks)),
+        narrow_charts_svg=tuple(svg for _, svg in loop_charts(part, loop_id, findings, NARROW_CHART_MM, marks)),
         calibrations=calibrations,
         findings=findings,
         revision_marks=marks,

@@ -53,6 +53,9 @@ class SheetPieces:
     """The loop diagram, SVG made by ``loopdocs.draw``."""
     range_charts_svg: Sequence[str] = ()
     """One range chart per split group of the loop (SVG made by ``loopdocs.draw``)."""
+    narrow_charts_svg: Sequence[str] = ()
+    """The same charts drawn narrower (``range_chart.NARROW_CHART_MM``): printed instead
+    where they keep the sheet to fewer pages."""
     calibrations: Sequence[CalibrationTable] = ()
     """Calibration tables of the loop's instruments and final elements (``loopdocs.calibration.project_tables``)."""
     findings: Sequence[Finding] = ()
@@ -376,6 +379,9 @@ def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool, titl
 SECTION_MM = 9.6
 """A side-column section's heading, its rule and the space after the section (6.55 mm
 from heading to text and 3 mm after, rendered)."""
+SECTION_AFTER_MM = 3.0
+"""The space after a side-column section (``sheet.css`` ``section``), not counted after the
+last one: tables placed under it keep the packer's gap from its text."""
 
 
 NOTE_INDENT_MM = 6.0
@@ -407,7 +413,7 @@ def sheet_layout(diagram_mm: tuple[float, float] | None, charts_mm: Sequence[tup
              Placed(Box("side foot", SIDE_WIDTH_MM, side_foot_mm), side_x, box_h - side_foot_mm)]
     first = [Box(("diagram", 0), *diagram_mm, free_corner_mm=diagram_corner_mm)] if diagram_mm else []
     first += [Box(("chart", i), *size) for i, size in enumerate(charts_mm)]
-    rest = [Box(("table", i), t.width_mm, t.height_mm, variants=tuple((v.width_mm, v.height_mm) for v in wider(t)))
+    rest = [Box(("table", i), t.width_mm, t.height_mm, variants=tuple((v.width_mm, v.height_mm) for v in variants(t)))
             for i, t in enumerate(tables)]
     return pack_pages(first, rest, side_x + SIDE_WIDTH_MM, box_h, taken=taken)
 
@@ -415,6 +421,32 @@ def sheet_layout(diagram_mm: tuple[float, float] | None, charts_mm: Sequence[tup
 WIDER_TABLES_MM = (70.0, 90.0, 110.0)
 """Widths a table may be set at where it fits nowhere at its own: wider and lower, it may
 fit under a range chart or a wide table (``packing.place_any``)."""
+
+
+WRAPPED_COLUMN_MM = 24.0
+"""Widest a column of words (a direction, an interlock reference) is set where its table
+fits nowhere on one line per row (:func:`variants`)."""
+
+
+def variants(table: DisplayTable) -> list[DisplayTable]:
+    """Other ways to print ``table``, tried in order where it fits nowhere at its own size:
+    its columns of words wrapped at ``WRAPPED_COLUMN_MM`` when that makes it narrower
+    (the alarm and trip table under a narrow chart), then :func:`wider`, last as narrow
+    as its columns allow (``NARROW_TABLE_MM`` at least: taller)."""
+    out = []
+    narrow = table.wrapped(WRAPPED_COLUMN_MM)
+    if table.text_columns and narrow.width_mm < table.width_mm - 1.0:
+        out.append(narrow)
+    out += wider(table)
+    slim = table.narrowed(NARROW_TABLE_MM)
+    if slim.width_mm < table.width_mm - 1.0:
+        out.append(slim)
+    return out
+
+
+NARROW_TABLE_MM = 40.0
+"""Narrowest a table is set, as a last resort (:func:`variants`): its notes wrap into a
+tall column, for a narrow free corner of the diagram."""
 
 
 def wider(table: DisplayTable) -> list[DisplayTable]:
@@ -529,20 +561,29 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     box_w, box_h = content_box_mm(settings)
     if pieces.diagram_svg:
         diagram, scale = fit_svg(trusted_svg(pieces.diagram_svg), box_w, box_h)
-    charts = [fit_svg(trusted_svg(svg), box_w, box_h)[0] for svg in pieces.range_charts_svg]
     side_notes = side_mm <= room
     status = not_for_construction or release_reason is not None
-    side_top = loop_head_mm(pieces.loop.service or "") + (STATUS_MM if status else 0.0) + (side_mm if side_notes else 0.0)
+    # the space after the last section is left to the packer's gap (GAP_MM)
+    side_top = loop_head_mm(pieces.loop.service or "") + (STATUS_MM if status else 0.0) \
+        + (side_mm - SECTION_AFTER_MM if side_notes else 0.0)
     corner = svg_free_corner_mm(diagram) if diagram and scale == 1.0 else None
     foot = side_bottom_mm(len(revisions(tb, settings)), title)
-    pages = sheet_layout(svg_size_mm(diagram) if diagram else None, [svg_size_mm(c) for c in charts], tables,
-                         settings, side_top, foot, corner)
+    # the charts at their own width, or narrower where that saves a page
+    pages, charts = [], []
+    for svgs in (pieces.range_charts_svg, pieces.narrow_charts_svg):
+        if len(svgs) != len(pieces.range_charts_svg) or (pages and len(pages) == 1):
+            continue
+        drawn = [fit_svg(trusted_svg(svg), box_w, box_h)[0] for svg in svgs]
+        plan = sheet_layout(svg_size_mm(diagram) if diagram else None, [svg_size_mm(c) for c in drawn], tables,
+                            settings, side_top, foot, corner)
+        if not pages or len(plan) < len(pages):
+            pages, charts = plan, drawn
     content = {"diagram": [Markup(diagram) if diagram else None], "chart": [Markup(c) for c in charts], "table": tables}
 
     def item(p: Placed) -> Any:
         kind, index = p.box.key
         if kind == "table" and p.box.variant:
-            return wider(tables[index])[p.box.variant - 1]  # set wider where it fits so
+            return variants(tables[index])[p.box.variant - 1]  # set wrapped or wider where it fits so
         return content[kind][index]
 
     page_views = [{"height_mm": round(used_height_mm([p for p in page if p.x_mm < box_w]), 1),
