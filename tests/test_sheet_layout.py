@@ -355,3 +355,44 @@ def test_alarm_table_wrapped_to_fit_keeps_every_word_whole():
     lines = {row[0]: wrapped.row_lines(row) for row in wrapped.rows}
     assert lines == {"LT-2101": 1, "LSHH-2101": 2}
     assert wrapped.height_mm > table.height_mm
+
+
+def test_revision_table_estimate_holds_wrapped_descriptions():
+    # A re-issued sheet's revision entry says what changed and wraps to several lines; the
+    # side column above it is packed by the estimate, so a table printed taller than its
+    # estimate would push the notes into the caution box (common practice: nothing
+    # overlaps on a drawing). Measured on the laid-out sheet (weasyprint's boxes): the
+    # estimate is at least the rendered height and at most 4 mm over, for one short row
+    # and for three rows with the descriptions an issue writes.
+    from weasyprint import HTML
+
+    from loopdocs.render.sheet import TEMPLATES_DIR, revisions_table_mm, sheet_html
+
+    px = 25.4 / 96
+    checked = check_project(EXAMPLE)
+    long_rows = [
+        {"rev": "A", "date": "2026-11-02", "description": "issued for review", "by": "AE"},
+        {"rev": "0", "date": "2026-11-16", "by": "AE",
+         "description": "issued for construction; Range of PT-4120 changed 0-4 bar to 0-5 bar; "
+                        "Alarm H of PT-4120 changed 3.5 to 4.2; Cv of PV-4120B changed 15 to 18; and 2 more changes"},
+        {"rev": "1", "date": "2026-11-30", "by": "AE",
+         "description": "issued for construction; Service of PY-4120 changed LP steam letdown I/P converter "
+                        "to LP steam letdown I/P converter, relocated"},
+    ]
+    for rows in ([{"rev": "A", "date": "2026-11-02", "description": "issued for review", "by": "AE"}], long_rows):
+        settings = sheet_settings({"revisions": rows})
+        frame = SheetFrame(checked.project.config.title_block, settings, 1, len(checked.project.loops))
+        doc = HTML(string=sheet_html(pieces(checked, "P-4120"), frame), base_url=str(TEMPLATES_DIR) + "/").render()
+
+        def walk(box):
+            yield box
+            for child in getattr(box, "children", None) or []:
+                yield from walk(child)
+
+        tables = [b for page in doc.pages for b in walk(page._page_box)
+                  if getattr(b, "element_tag", None) == "table" and "revisions" in (b.element.get("class") or "")
+                  and type(b).__name__ in ("BlockBox", "TableWrapperBox")]
+        assert len(tables) == 1
+        rendered_mm = tables[0].margin_height() * px
+        estimated_mm = revisions_table_mm(settings.revisions)
+        assert rendered_mm <= estimated_mm + 1e-6 and estimated_mm - rendered_mm <= 4.0, (len(rows), estimated_mm, rendered_mm)

@@ -352,14 +352,37 @@ def title_text(loop_id: str, service: str) -> str:
     return f"Loop sheet, loop {loop_id}" + (f": {service}" if service else "")
 
 
-def side_bottom_mm(revision_rows: int, title: str = "") -> float:
+REVISION_TEXT_MM = 2.5
+"""Type size of the revision table (``table.revisions`` in ``sheet.css``)."""
+
+REVISION_DESCRIPTION_MM = 32.5
+"""Text width of the revision table's Description column: the 100 mm side column less
+the Rev (8 mm), Date (18 mm) and three initials (9 mm) columns, each cell's 2 mm of
+padding and the borders (32.75 mm measured on the laid-out sheet)."""
+
+
+def revisions_table_mm(rows: Sequence[Revision]) -> float:
+    """Height of the revision table: caption (5 mm) and borders (0.5 mm), the head row and
+    one row of one line each (4.4 mm), and 3 mm for every further line a description wraps
+    to (an issued revision's entry says what changed and can take several lines).
+    Measured on the laid-out sheet: caption 5.0, head 4.38, a one-line row 4.25 mm, each
+    further line 3.0 mm.
+
+    >>> round(revisions_table_mm([Revision(rev="A", description="Issued for review")]), 1)
+    14.3
+    """
+    line_mm = REVISION_TEXT_MM * 1.2
+    extra_lines = sum(_lines(r.description or "", REVISION_DESCRIPTION_MM, REVISION_TEXT_MM) - 1 for r in rows)
+    return 5.5 + 4.4 * (1 + len(rows)) + line_mm * extra_lines
+
+
+def side_bottom_mm(revision_rows: Sequence[Revision], title: str = "") -> float:
     """Height of the foot of the side column: caution (its text wrapped to the column),
-    the revision table and the title block (its title wrapped to the column), 2 mm to
-    spare."""
+    the revision table (:func:`revisions_table_mm`) and the title block (its title
+    wrapped to the column), 2 mm to spare."""
     caution = 3.0 + 2 * 1.5 + BODY_LINE_MM * (1 + _lines(CAUTION, SIDE_WIDTH_MM - 4.7)) + 3.0
-    revisions_mm = 5.0 + 3.5 * (1 + revision_rows)
     title_mm = BODY_LINE_MM * (_lines(title, SIDE_WIDTH_MM - 2.4) - 1) if title else 0.0
-    return caution + revisions_mm + TITLE_BLOCK_MM + title_mm + 2.0
+    return caution + revisions_table_mm(revision_rows) + TITLE_BLOCK_MM + title_mm + 2.0
 
 
 def loop_head_mm(service: str) -> float:
@@ -367,7 +390,7 @@ def loop_head_mm(service: str) -> float:
     return LOOP_HEAD_MM + BODY_LINE_MM * (_lines(service, SIDE_WIDTH_MM) - 1 if service else 0)
 
 
-def side_room_mm(settings: SheetSettings, revision_rows: int, status: bool, title: str = "",
+def side_room_mm(settings: SheetSettings, revision_rows: Sequence[Revision], status: bool, title: str = "",
                  service: str = "") -> float:
     """Height left in the side column for the tags, notes and findings, once the loop id,
     the status box and the foot (:func:`side_bottom_mm`) are in."""
@@ -542,7 +565,7 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
                       f"{v['accepted_by']}: {v['accepted_reason']}" for v in accepted_views]
     tag_rows_mm = 3.9 * (1 + len(pieces.tags)) + marked_rows_mm(pieces.tags, pieces.revision_marks, 3.9)
     title = title_text(pieces.loop.id, pieces.loop.service or "")
-    room = side_room_mm(settings, len(revisions(tb, settings)), not_for_construction or release_reason is not None,
+    room = side_room_mm(settings, revisions(tb, settings), not_for_construction or release_reason is not None,
                         title, pieces.loop.service or "")
     # notes shared by several tables go to the sheet notes, unless the side column then
     # overflows (its tags, findings and notes would move under the drawing)
@@ -567,7 +590,7 @@ def sheet_context(pieces: SheetPieces, frame: SheetFrame) -> dict[str, Any]:
     side_top = loop_head_mm(pieces.loop.service or "") + (STATUS_MM if status else 0.0) \
         + (side_mm - SECTION_AFTER_MM if side_notes else 0.0)
     corner = svg_free_corner_mm(diagram) if diagram and scale == 1.0 else None
-    foot = side_bottom_mm(len(revisions(tb, settings)), title)
+    foot = side_bottom_mm(revisions(tb, settings), title)
     # the charts at their own width, or narrower where that saves a page
     pages, charts = [], []
     for svgs in (pieces.range_charts_svg, pieces.narrow_charts_svg):
