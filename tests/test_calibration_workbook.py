@@ -165,3 +165,145 @@ def test_unwritable_out_is_one_line_exit_2(tmp_path):
     result = runner.invoke(app, ["calibrate", str(EXAMPLE), "--out", str(blocker / "cal.xlsx")])
     assert result.exit_code == 2
     assert "Traceback" not in result.output and len(result.output.strip().splitlines()) == 1
+
+
+# --------------------------------------------------------------------------- rows written as text
+
+
+def _both_ways(tmp_path: Path, rows: list[list]) -> tuple[Path, Path]:
+    """The same styled rows written by openpyxl's own write-only cells and by RowWriter."""
+    from openpyxl.cell import WriteOnlyCell
+
+    from loopdocs.sheets.cells import cell_style
+    from loopdocs.sheets.sheet_rows import CellStyle, RowWriter
+
+    by_openpyxl, by_text = tmp_path / "openpyxl.xlsx", tmp_path / "text.xlsx"
+    wb = openpyxl.Workbook(write_only=True)
+    ws = wb.create_sheet("S")
+    ws.row_dimensions[2].height = 30
+    for row in rows:
+        cells = []
+        for item in row:
+            if item is None:
+                cells.append(None)
+                continue
+            value, attrs = item
+            cell = WriteOnlyCell(ws, value)
+            if cell.data_type == "f":  # text is text: no formula (OWASP formula injection)
+                cell.data_type = "s"
+            for name, setting in attrs.items():
+                setattr(cell, name, setting)
+            cells.append(cell)
+        ws.append(cells)
+    wb.save(by_openpyxl)
+
+    wb = openpyxl.Workbook(write_only=True)
+    ws = wb.create_sheet("S")
+    ws.row_dimensions[2].height = 30
+    writer = RowWriter(ws)
+    made: dict[str, CellStyle] = {}
+    for row in rows:
+        cells = []
+        for item in row:
+            if item is None:
+                cells.append(None)
+                continue
+            value, attrs = item
+            key = repr(sorted(attrs.items(), key=lambda kv: kv[0]))
+            if key not in made:
+                made[key] = CellStyle(cell_style(ws, **attrs))
+            cells.append((value, made[key]))
+        writer.append(cells)
+    wb.save(by_text)
+    return by_openpyxl, by_text
+
+
+def test_rows_as_text_are_the_bytes_openpyxl_writes(tmp_path):
+    # reference: openpyxl 3.1's own write-only cell writer (openpyxl.cell._writer), SpreadsheetML
+    # rows and cells of ECMA-376 Part 1 §18.3.1.73 (row), §18.3.1.4 (c), §18.3.1.53 (is)
+    import zipfile
+
+    from openpyxl.styles import Alignment, Border, Font, PatternFill, Protection, Side
+
+    thin = Side(style="thin", color="808080")
+    boxed = {"border": Border(left=thin, right=thin, top=thin, bottom=thin), "number_format": '0.00" mA"'}
+    typed = {"border": Border(left=thin), "protection": Protection(locked=False),
+             "fill": PatternFill("solid", fgColor="FFF2CC"), "number_format": "0.000"}
+    rows = [
+        [("Calibration: loop T-1  Fermenter <FV-5> & jacket", {"font": Font(bold=True, size=14)})],
+        [("CAUTION: isolate first", {"font": Font(bold=True, color="C00000"),
+                                     "alignment": Alignment(wrap_text=True, vertical="top")}), None, (None, typed)],
+        [],
+        [("TT-1/01", boxed), ("=HYPERLINK(\"http://x\")", boxed), ("+A1", {}), ("-5 degC", {}), ("@SUM(A1)", {}),
+         (50, boxed), (17.5, boxed), (-0.0, boxed), (12.000000000000002, boxed), (1e-300, boxed), (True, {}),
+         (None, boxed), (None, typed), ("", boxed), ("#N/A", {}), ("  padded ", {}), ("   ", {}), ("x" * 40000, {})],
+        [None, ("note in column B", {"font": Font(italic=True)}), None, None],
+    ]
+    by_openpyxl, by_text = _both_ways(tmp_path, rows)
+    with zipfile.ZipFile(by_openpyxl) as a, zipfile.ZipFile(by_text) as b:
+        assert a.namelist() == b.namelist()
+        for part in a.namelist():
+            if part != "docProps/core.xml":  # creation time
+                assert a.read(part) == b.read(part), part
+    # and read back alike: text stays text (no formula cell), the error code is an error cell, long text cut
+    ws = openpyxl.load_workbook(by_text)["S"]
+    assert [c.data_type for c in ws[4][:5]] == ["s", "s", "s", "s", "s"]
+    assert ws["B4"].value == "=HYPERLINK(\"http://x\")"
+    assert ws["O4"].data_type == "e"
+    assert len(ws["R4"].value) == 32767  # openpyxl's cell limit (Excel's 32,767 characters a cell)
+    assert ws["H4"].number_format == '0.00" mA"' and ws["M4"].protection.locked is False
+
+
+def test_rows_as_text_refuse_characters_xml_forbids(tmp_path):
+    # XML 1.0 §2.2 Char excludes most C0 controls; openpyxl refuses them the same way (IllegalCharacterError)
+    from openpyxl.utils.exceptions import IllegalCharacterError
+
+    from loopdocs.sheets.sheet_rows import RowWriter
+
+    ws = openpyxl.Workbook(write_only=True).create_sheet("S")
+    writer = RowWriter(ws)
+    with pytest.raises(IllegalCharacterError):
+        writer.append([("TT-1\x1b[31m", None)])
+    with pytest.raises(TypeError):  # a value no cell can hold, named
+        writer.append([(object(), None)])
+    ws.close()  # the sheet's part is finished and its file closed
+
+
+def test_workbook_opens_without_warnings_and_every_sheet_name_once(tmp_path):
+    # openpyxl warns on parts it cannot read as written (reference library); names are unique
+    # ignoring case, as Excel requires of sheet names (common practice)
+    import warnings
+
+    path = tmp_path / "cal.xlsx"
+    result = runner.invoke(app, ["calibrate", str(EXAMPLE), "--out", str(path), "--sheet-per", "loop"])
+    assert result.exit_code == 0, result.output
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        wb = openpyxl.load_workbook(path)
+    assert [str(w.message) for w in caught] == []
+    names = [name.lower() for name in wb.sheetnames]
+    assert len(names) == len(set(names))
+    assert wb.sheetnames[0] == CONTENTS_SHEET and wb.sheetnames[-1] == RECORD_SHEET
+
+
+def test_a_failed_write_leaves_no_sheet_parts_behind(tmp_path):
+    # every sheet part is a temporary file until the workbook is saved; a write that fails
+    # (here: the output folder is a file) closes and deletes them at once (common practice)
+    import gc
+    import warnings
+
+    from openpyxl.worksheet._writer import ALL_TEMP_FILES
+
+    project, _ = load_project(EXAMPLE)
+    cset = calibration_set(project)
+    blocker = tmp_path / "file"
+    blocker.write_text("x")
+    before = set(ALL_TEMP_FILES)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        with pytest.raises(OSError):
+            write_workbook(cset, blocker / "cal.xlsx")
+        gc.collect()
+    left = [p for p in set(ALL_TEMP_FILES) - before if Path(p).exists()]
+    assert left == []
+    assert [str(w.message) for w in caught if issubclass(w.category, ResourceWarning)] == []

@@ -139,10 +139,40 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
 
     ``sheet_per`` is ``loop`` (one sheet per loop) or ``area`` (per plant area prefix).
     The workbook is streamed (openpyxl write-only mode): each sheet's rows go to disk as
-    they are made and the sheet is closed before the next, so memory does not grow with
-    the number of test points (10,000 loops within a minute; ``benchmarks/bench_workbook.py``).
+    they are made, as text (:class:`loopdocs.sheets.sheet_rows.RowWriter`), and the sheet
+    is closed before the next, so memory does not grow with the number of test points
+    (10,000 loops within a minute; ``benchmarks/bench_workbook.py``).
     """
     from openpyxl import Workbook
+
+    from loopdocs.core.files import atomic_write
+
+    wb = Workbook(write_only=True)
+    try:
+        counts = _fill_workbook(cset, wb, sheet_per)
+        atomic_write(Path(path), lambda tmp: wb.save(tmp))
+    except BaseException:
+        _discard(wb)
+        raise
+    return counts
+
+
+def _discard(wb: Any) -> None:
+    """Close and delete the sheet parts of a workbook that will not be saved (a write that
+    failed or was interrupted): none left open or on disk until the process ends."""
+    for ws in wb._sheets:
+        writer = getattr(ws, "_writer", None)
+        if writer is None:
+            continue
+        try:
+            writer.xf.close()
+            writer.cleanup()
+        except (OSError, ValueError):
+            pass
+
+
+def _fill_workbook(cset: CalibrationSet, wb: Any, sheet_per: str) -> dict[str, int]:
+    """The sheets of ``write_workbook``, each written and closed in turn; rows per sheet."""
     from openpyxl.formatting.rule import FormulaRule
     from openpyxl.styles import Alignment, Border, Font, PatternFill, Protection, Side
     from openpyxl.utils import get_column_letter
@@ -150,18 +180,17 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     from openpyxl.worksheet.properties import PageSetupProperties
 
     from loopdocs.core.wording import CAUTION
-    from loopdocs.core.files import atomic_write
-    from loopdocs.sheets.cells import cell_style, streamed_cell
+    from loopdocs.sheets.sheet_rows import RowWriter
 
     if sheet_per not in ("loop", "area"):
         raise ValueError(f"sheet_per must be loop or area, got {sheet_per!r}")
     rj = cset.reference_junction_c if cset.reference_junction_c not in (None, 0.0) else None
-    views = [present_table(table) for table in cset.tables]
-    placements = [_simulate_columns(view, rj) for view in views]
     columns = ["Ref", "Tag", "Check", "Point", "Dir", "Apply", SIMULATE]
     if rj is not None:
         columns.append(f"Simulate, RJ {rj:g} degC")
-    if any("calibrator" in placed for placed in placements):
+    # a view has a column in the calibrator's unit when a point simulates in it (present_table);
+    # the views themselves are made sheet by sheet, so that they are not all held at once
+    if any(sim.basis == CALIBRATOR_BASIS for table in cset.tables for point in table.points for sim in point.simulate):
         columns.append(CALIBRATOR)
     columns += ["Expected", "Unit", "Low limit", "High limit", "As-Found", "As-Left", "Remarks"]
     n_cols = len(columns)
@@ -172,8 +201,10 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
               "Expected": 12, "Unit": 9, "Low limit": 11, "High limit": 11, "As-Found": 12, "As-Left": 12,
               "Remarks": 28}
     last_col = get_column_letter(n_cols)
+    found_letter, left_letter = get_column_letter(col["As-Found"]), get_column_letter(col["As-Left"])
 
-    wb = Workbook(write_only=True)
+    contents = wb.create_sheet(CONTENTS_SHEET)
+    style = _StyleMaker(contents)
     thin = Side(style="thin", color="808080")
     box = Border(left=thin, right=thin, top=thin, bottom=thin)
     bold = Font(bold=True)
@@ -186,37 +217,50 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
     # the borders a merged range gives the cells on its edges (openpyxl MergedCellRange.format)
     merged_right = Border(top=thin, bottom=thin, right=thin)
     merged_middle = Border(top=thin, bottom=thin)
+    # the styles of the loop sheets, each made once
+    sheet_title = style(font=Font(bold=True, size=14))
+    plain = style()
+    caution = style(font=Font(bold=True, color="C00000"), alignment=Alignment(wrap_text=True, vertical="top"))
+    label = style(font=bold)
+    input_box = style(protection=unlocked, fill=input_fill, border=box)
+    input_right = style(protection=unlocked, border=merged_right)
+    input_middle = style(protection=unlocked, border=merged_middle)
+    column_head = style(font=bold, fill=header_fill, border=box,
+                        alignment=Alignment(horizontal="center", vertical="center", wrap_text=True))
+    table_title = style(font=bold, fill=title_fill)
+    title_rest = style(fill=title_fill)
+    note_styles: dict[Any, Any] = {}
+    unit_head = None  # made at first use, as are the note styles: the style table keeps the order of first use
+    boxed: dict[str | None, Any] = {}
+    inputs_styled: dict[str | None, Any] = {}
+
+    def box_style(number_format: str | None) -> Any:
+        if number_format not in boxed:
+            boxed[number_format] = style(border=box, **({"number_format": number_format} if number_format else {}))
+        return boxed[number_format]
+
+    def input_style(number_format: str | None) -> Any:
+        if number_format not in inputs_styled:
+            inputs_styled[number_format] = style(border=box, protection=unlocked, fill=input_fill,
+                                                 **({"number_format": number_format} if number_format else {}))
+        return inputs_styled[number_format]
 
     # group tables into sheets, in the order the set gives them; names and counts first,
     # since the contents sheet (the first) lists them
-    groups: dict[str, list[tuple[CalibrationTable, TableView, dict[str, int]]]] = {}
-    for table, view, placed in zip(cset.tables, views, placements):
-        groups.setdefault(_sheet_key(table, cset, sheet_per), []).append((table, view, placed))
+    groups: dict[str, list[CalibrationTable]] = {}
+    for table in cset.tables:
+        groups.setdefault(_sheet_key(table, cset, sheet_per), []).append(table)
     used: set[str] = {CONTENTS_SHEET.lower(), RECORD_SHEET.lower()}
     names = {key: _sheet_name(key, used) for key in groups}
-    counts = {names[key]: sum(len(view.readings) for _, view, _ in tables) for key, tables in groups.items()}
+    counts = {names[key]: sum(len(table.points) for table in tables) for key, tables in groups.items()}  # a reading a point
 
-    contents = wb.create_sheet(CONTENTS_SHEET)
-    _write_contents(contents, cset, counts, sheet_per, rj, bold, PageSetupProperties)
+    _write_contents(contents, cset, counts, sheet_per, rj, style, PageSetupProperties)
     record = _start_record(wb, cset)
 
-    def cell(ws: Any, value: Any = None, **style: Any) -> Any:
-        return streamed_cell(ws, value, **style)
-
-    styles: dict[tuple, Any] = {}
-
-    def styled(ws: Any, value: Any, kind: str, number_format: str | None = None) -> Any:
-        """A cell of a test row or a table title row, its style made once per kind."""
-        key = (kind, number_format)
-        if key not in styles:
-            attrs: dict[str, Any] = {"title": {"fill": title_fill}, "box": {"border": box},
-                                     "input": {"border": box, "protection": unlocked, "fill": input_fill}}[kind]
-            styles[key] = cell_style(ws, **attrs, **({"number_format": number_format} if number_format else {}))
-        return streamed_cell(ws, value, styles[key])
-
+    n_found, n_left, n_remarks = col["As-Found"], col["As-Left"], col["Remarks"]
     for key, tables in groups.items():
         name = names[key]
-        ws = wb.create_sheet(name)
+        ws = _new_sheet(wb, name)
         # what is written before the rows: column widths, row heights, panes, page setup
         for name_, c in col.items():
             ws.column_dimensions[get_column_letter(c)].width = widths.get(name_, 14)
@@ -224,47 +268,46 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
         ws.row_dimensions[HEADER_ROW].height = 30
         ws.freeze_panes = f"{get_column_letter(col['Check'])}{FIRST_ROW}"
         _page_setup(ws, cset, PageSetupProperties)
+        rows = RowWriter(ws)
 
         def merge(row: int, first: int, last: int) -> None:
-            ws.merged_cells.add(f"{get_column_letter(first)}{row}:{get_column_letter(last)}{row}")
+            rows.merge(f"{get_column_letter(first)}{row}:{get_column_letter(last)}{row}")
 
         service = cset.loop_services.get(key, "") if sheet_per == "loop" else ""
-        ws.append([cell(ws, f"Calibration: {'loop' if sheet_per == 'loop' else 'area'} {key}" + (f"  {service}" if service else ""),
-                        font=Font(bold=True, size=14))])
-        ws.append([cell(ws, f"{cset.project}  |  index {Path(cset.index_path).name}"
-                        + (f", revision {cset.revision}" if cset.revision else ""))])
-        ws.append([cell(ws, "CAUTION: " + CAUTION, font=Font(bold=True, color="C00000"),
-                        alignment=Alignment(wrap_text=True, vertical="top"))])
+        rows.append([(f"Calibration: {'loop' if sheet_per == 'loop' else 'area'} {key}" + (f"  {service}" if service else ""),
+                      sheet_title)])
+        rows.append([(f"{cset.project}  |  index {Path(cset.index_path).name}"
+                      + (f", revision {cset.revision}" if cset.revision else ""), plain)])
+        rows.append([("CAUTION: " + CAUTION, caution)])
         for row in (3, 1, 2):
             merge(row, 1, n_cols)
         # technician, date, calibrator: labels, and input cells (merged B:C and I:last)
         tech: list[Any] = [None] * n_cols
-        for label, label_col, value_col in (("Technician", 1, 2), ("Date", 4, 5), ("Calibrator, serial, cal. due", 7, 9)):
-            tech[label_col - 1] = cell(ws, label, font=bold)
-            tech[value_col - 1] = cell(ws, protection=unlocked, fill=input_fill, border=box)
-        tech[2] = cell(ws, protection=unlocked, border=merged_right)
+        for text, label_col, value_col in (("Technician", 1, 2), ("Date", 4, 5), ("Calibrator, serial, cal. due", 7, 9)):
+            tech[label_col - 1] = (text, label)
+            tech[value_col - 1] = (None, input_box)
+        tech[2] = (None, input_right)
         for c in range(10, n_cols + 1):
-            tech[c - 1] = cell(ws, protection=unlocked, border=merged_right if c == n_cols else merged_middle)
-        ws.append(tech)
+            tech[c - 1] = (None, input_right if c == n_cols else input_middle)
+        rows.append(tech)
         merge(4, 2, 3)
         merge(4, 9, n_cols)
-        ws.append([])
-        ws.append([cell(ws, name_, font=bold, fill=header_fill, border=box,
-                        alignment=Alignment(horizontal="center", vertical="center", wrap_text=True)) for name_ in col])
+        rows.append([])
+        rows.append([(name_, column_head) for name_ in col])
 
-        r = FIRST_ROW
         value_ranges: dict[tuple[float, float, str], list[str]] = {}
-        for table, view, placed in tables:
-            ws.append([cell(ws, _title_text(view), font=bold, fill=title_fill)]
-                      + [styled(ws, None, "title") for _ in range(n_cols - 1)])
+        title_tail = [(None, title_rest)] * (n_cols - 1)
+        for table in tables:
+            view = present_table(table)
+            placed = _simulate_columns(view, rj)
+            r = rows.append([(_title_text(view), table_title)] + title_tail)
             merge(r, 1, n_cols)
-            r += 1
             for note in view.notes:
-                error_mark = note.emphasis == "error"
-                ws.append([None, cell(ws, note.text, font=Font(italic=True, bold=bool(note.emphasis),
-                                                               color="C00000" if error_mark else None))])
+                if note.emphasis not in note_styles:
+                    note_styles[note.emphasis] = style(font=Font(italic=True, bold=bool(note.emphasis),
+                                                                 color="C00000" if note.emphasis == "error" else None))
+                r = rows.append([None, (note.text, note_styles[note.emphasis])])
                 merge(r, 2, n_cols)
-                r += 1
             # the view's heads with their units, over the columns they head
             apply_col, expect_col = view.column(APPLY), view.column(EXPECT)
             assert apply_col is not None and expect_col is not None
@@ -272,58 +315,60 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
             for slot, index in placed.items():
                 if sim_col.get(slot) is not None:
                     heads[sim_col[slot]] = view.columns[index].label  # type: ignore[index]
+            if unit_head is None:
+                unit_head = style(font=Font(italic=True, bold=True), alignment=Alignment(horizontal="right", wrap_text=True))
             head_row: list[Any] = [None] * n_cols
             for c, text in heads.items():
-                head_row[c - 1] = cell(ws, text, font=Font(italic=True, bold=True),
-                                       alignment=Alignment(horizontal="right", wrap_text=True))
-            ws.append(head_row)
-            r += 1
+                head_row[c - 1] = (text, unit_head)
+            rows.append(head_row)
             check = CHECK_NAMES.get(table.kind, table.kind)
             tol = table.tolerance
+            tolerance_pct = tol.percent_of_span if tol else None
             i_apply, i_expect = view.columns.index(apply_col), view.columns.index(expect_col)
             expect_format = _number_format(expect_col.decimals)
-            formats = {col["Point"]: _number_format(view.percent_decimals, "%"),
-                       col["Apply"]: _number_format(apply_col.decimals, apply_col.unit),
-                       col["Expected"]: expect_format, col["Low limit"]: expect_format, col["High limit"]: expect_format}
-            inputs = {col["As-Found"]: expect_format, col["As-Left"]: expect_format, col["Remarks"]: None}
+            # the style of each column of this table's test rows; simulated columns by value
+            row_styles: list[Any] = [box_style(None)] * n_cols
+            row_styles[col["Point"] - 1] = box_style(_number_format(view.percent_decimals, "%"))
+            row_styles[col["Apply"] - 1] = box_style(_number_format(apply_col.decimals, apply_col.unit))
+            sim_styles = {col_: box_style(_number_format(view.columns[index].decimals, view.columns[index].unit))
+                          for col_, index in sorted((sim_col.get(slot), index) for slot, index in placed.items()
+                                                    if sim_col.get(slot) is not None)}
+            for c in (col["Expected"], col["Low limit"], col["High limit"]):
+                row_styles[c - 1] = box_style(expect_format)
+            row_styles[n_found - 1] = row_styles[n_left - 1] = input_style(expect_format)
+            row_styles[n_remarks - 1] = input_style(None)
+            span = table.output_span
+            olo = min(table.output_range[0].value, table.output_range[1].value)
+            prefix = f"{table.tag}/{_REF_PREFIX.get(table.kind, '')}"
             for i, reading in enumerate(view.readings, start=1):
                 point = reading.point
-                ref = f"{table.tag}/{_REF_PREFIX.get(table.kind, '')}{i:02d}"
+                ref = f"{prefix}{i:02d}"
                 expected = reading.values[i_expect]
                 low, high = reading.low, reading.high
-                values: dict[int, Any] = {
-                    col["Ref"]: ref, col["Tag"]: table.tag, col["Check"]: check, col["Point"]: point.percent,
-                    col["Dir"]: point.direction, col["Apply"]: reading.values[i_apply], col["Expected"]: expected,
-                    col["Unit"]: expect_col.unit, col["Low limit"]: low, col["High limit"]: high,
-                }
-                sim_formats: dict[int, str] = {}
+                values: list[Any] = [None] * n_cols
+                values[0], values[1], values[2] = ref, table.tag, check
+                values[col["Point"] - 1], values[col["Dir"] - 1] = point.percent, point.direction
+                values[col["Apply"] - 1], values[col["Expected"] - 1] = reading.values[i_apply], expected
+                values[col["Unit"] - 1], values[col["Low limit"] - 1], values[col["High limit"] - 1] = expect_col.unit, low, high
+                cells = list(zip(values, row_styles))
                 for slot, index in placed.items():
                     c_sim = sim_col.get(slot)
                     value = reading.values[index]
                     if c_sim is not None and value is not None:
-                        values[c_sim] = value
-                        sim_formats[c_sim] = _number_format(view.columns[index].decimals, view.columns[index].unit)
-                ws.append([styled(ws, values.get(c), "input", inputs[c]) if c in inputs
-                           else styled(ws, values.get(c), "box", formats.get(c) or sim_formats.get(c))
-                           for c in range(1, n_cols + 1)])
-                span = table.output_span
-                olo = min(table.output_range[0].value, table.output_range[1].value)
+                        cells[c_sim - 1] = (value, sim_styles[c_sim])
+                r = rows.append(cells)
                 vkey = (olo - span, olo + 2 * span, point.output.unit)
-                value_ranges.setdefault(vkey, []).append(
-                    f"{get_column_letter(col['As-Found'])}{r}:{get_column_letter(col['As-Left'])}{r}"
-                )
-                _record_row(record, IssuedRow(
+                value_ranges.setdefault(vkey, []).append(f"{found_letter}{r}:{left_letter}{r}")
+                record.append_values(_record_values(IssuedRow(
                     ref=ref, sheet=name, tag=table.tag, check=check, loop=table.loop, percent=point.percent,
                     direction=point.direction, apply=point.input.value, apply_unit=point.input.unit,
                     expected=expected, unit=point.output.unit, low=low, high=high, output_span=span,
-                    tolerance_pct=tol.percent_of_span if tol else None,
+                    tolerance_pct=tolerance_pct,
                     digest=row_digest(ref, table.tag, check, point.percent, point.direction, point.input.value,
                                       expected, point.output.unit, low, high),
-                ))
-                r += 1
-            ws.append([])  # blank row between tables
-            r += 1
-        last_row = r - 1
+                )))
+            rows.append([])  # blank row between tables
+        last_row = rows.row
 
         for (vmin, vmax, unit), ranges in value_ranges.items():
             dv = DataValidation(
@@ -334,10 +379,9 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
             )
             dv.sqref = " ".join(ranges)  # type: ignore[assignment]
             ws.data_validations.append(dv)
-        found, left = get_column_letter(col["As-Found"]), get_column_letter(col["As-Left"])
         lo_c, hi_c = get_column_letter(col["Low limit"]), get_column_letter(col["High limit"])
-        area = f"{found}{FIRST_ROW}:{left}{max(FIRST_ROW, last_row)}"
-        anchor = f"{found}{FIRST_ROW}"
+        area = f"{found_letter}{FIRST_ROW}:{left_letter}{max(FIRST_ROW, last_row)}"
+        anchor = f"{found_letter}{FIRST_ROW}"
         ok = f"AND(ISNUMBER({anchor}),ISNUMBER(${lo_c}{FIRST_ROW}),{anchor}>=${lo_c}{FIRST_ROW},{anchor}<=${hi_c}{FIRST_ROW})"
         bad = f"AND(ISNUMBER({anchor}),ISNUMBER(${lo_c}{FIRST_ROW}),OR({anchor}<${lo_c}{FIRST_ROW},{anchor}>${hi_c}{FIRST_ROW}))"
         ws.conditional_formatting.add(area, FormulaRule(formula=[ok], fill=green))
@@ -351,11 +395,64 @@ def write_workbook(cset: CalibrationSet, path: Path, sheet_per: str = "loop") ->
         ws.protection.selectLockedCells = False
         ws.protection.selectUnlockedCells = False
         ws.close()  # its rows are on disk; the next sheet starts
+        _release_written(ws)
 
-    wb._sheets.remove(record)  # streamed alongside the loop sheets, kept last
-    wb._sheets.append(record)
-    atomic_write(Path(path), lambda tmp: wb.save(tmp))
+    record.sheet.close()
+    wb._sheets.remove(record.sheet)  # streamed alongside the loop sheets, kept last
+    wb._sheets.append(record.sheet)
     return counts
+
+
+def _release_written(ws: Any) -> None:
+    """Drop what a closed write-only sheet has written already (merges, validations,
+    conditional formats, column and row settings, panes, protection, page setup): saving
+    the workbook needs only its name, state, print titles and area, and its written part
+    (openpyxl's ExcelWriter and WorkbookWriter); 10,000 sheets held them as hundreds of
+    megabytes."""
+    from openpyxl.formatting.formatting import ConditionalFormattingList
+    from openpyxl.worksheet.cell_range import MultiCellRange
+    from openpyxl.worksheet.datavalidation import DataValidationList
+
+    ws.merged_cells = MultiCellRange()
+    ws.data_validations = DataValidationList()
+    ws.conditional_formatting = ConditionalFormattingList()
+    ws.column_dimensions.clear()
+    ws.row_dimensions.clear()
+    for written in ("HeaderFooter", "page_setup", "page_margins", "print_options", "views", "protection",
+                    "sheet_properties", "sheet_format"):
+        setattr(ws, written, None)
+
+
+def _new_sheet(wb: Any, name: str) -> Any:
+    """A write-only sheet ``name`` added last to ``wb``. The names are made unique (ignoring
+    case) by :func:`_sheet_name`, so openpyxl's own check against every sheet name, which
+    makes adding n sheets take time in n squared (10,000 loops: tens of seconds), is
+    skipped: the sheet is made while the workbook's sheet list is set aside."""
+    sheets, wb._sheets = wb._sheets, []
+    try:
+        ws = wb.create_sheet(name)
+    finally:
+        wb._sheets = sheets
+    sheets.append(ws)
+    return ws
+
+
+class _StyleMaker:
+    """``style(font=..., fill=..., ...)``: a :class:`~loopdocs.sheets.sheet_rows.CellStyle`,
+    the same object for the same settings."""
+
+    def __init__(self, ws: Any) -> None:
+        self._ws = ws  # any sheet of the workbook: styles belong to the workbook
+        self._made: dict[tuple, Any] = {}
+
+    def __call__(self, **attrs: Any) -> Any:
+        from loopdocs.sheets.cells import cell_style
+        from loopdocs.sheets.sheet_rows import CellStyle
+
+        key = tuple(sorted((name, repr(value)) for name, value in attrs.items()))
+        if key not in self._made:
+            self._made[key] = CellStyle(cell_style(self._ws, **attrs))
+        return self._made[key]
 
 
 def _page_setup(ws: Any, cset: CalibrationSet, PageSetupProperties: Any) -> None:
@@ -400,52 +497,47 @@ _INSTRUCTIONS = (
 
 
 def _write_contents(ws: Any, cset: CalibrationSet, counts: dict[str, int], sheet_per: str,
-                    rj: float | None, bold: Any, PageSetupProperties: Any) -> None:
+                    rj: float | None, style: Any, PageSetupProperties: Any) -> None:
     """The first sheet (streamed): title, caution, reference junction, instructions, and the
     sheets with their test points and tags."""
     from openpyxl.styles import Alignment, Font
 
     from loopdocs.core.wording import CAUTION
-    from loopdocs.sheets.cells import streamed_cell as cell
+    from loopdocs.sheets.sheet_rows import RowWriter
 
     for column, width in (("A", 30), ("B", 26), ("C", 90), ("D", 10)):
         ws.column_dimensions[column].width = width
     ws.row_dimensions[3].height = 45
     _page_setup(ws, cset, PageSetupProperties)
-    ws.append([cell(ws, f"Calibration workbook: {cset.project}", font=Font(bold=True, size=14))])
-    ws.append([cell(ws, f"Index {Path(cset.index_path).name}" + (f", revision {cset.revision}" if cset.revision else ""))])
-    ws.append([cell(ws, "CAUTION: " + CAUTION, font=Font(bold=True, color="C00000"),
-                    alignment=Alignment(wrap_text=True, vertical="top"))])
-    ws.merged_cells.add("A3:D3")
-    ws.append([])
-    ws.append([cell(ws, "Thermocouple reference junction", font=bold),
-               cell(ws, f"0 degC ({SIMULATE} column)" + (f" and {rj:g} degC (Simulate, RJ column)" if rj is not None else ""))])
-    ws.append([])
-    r = 7
+    rows = RowWriter(ws)
+    bold, plain = style(font=Font(bold=True)), style()
+    rows.append([(f"Calibration workbook: {cset.project}", style(font=Font(bold=True, size=14)))])
+    rows.append([(f"Index {Path(cset.index_path).name}" + (f", revision {cset.revision}" if cset.revision else ""), plain)])
+    rows.append([("CAUTION: " + CAUTION, style(font=Font(bold=True, color="C00000"),
+                                               alignment=Alignment(wrap_text=True, vertical="top")))])
+    rows.merge("A3:D3")
+    rows.append([])
+    rows.append([("Thermocouple reference junction", bold),
+                 (f"0 degC ({SIMULATE} column)" + (f" and {rj:g} degC (Simulate, RJ column)" if rj is not None else ""), plain)])
+    rows.append([])
     for i, line in enumerate(_INSTRUCTIONS):
-        ws.append([cell(ws, line, font=bold if i == 0 else Font())])
-        ws.merged_cells.add(f"A{r}:D{r}")
-        r += 1
-    ws.append([])
-    r += 1
-    ws.append([cell(ws, "Sheet", font=bold), cell(ws, "Test points", font=bold), cell(ws, "Tags", font=bold)])
-    r += 1
+        r = rows.append([(line, bold if i == 0 else style(font=Font()))])
+        rows.merge(f"A{r}:D{r}")
+    rows.append([])
+    rows.append([("Sheet", bold), ("Test points", bold), ("Tags", bold)])
     tags_by_sheet: dict[str, list[str]] = {}
     for row_sheet, tag in _sheet_tags(cset, counts, sheet_per):
         tags_by_sheet.setdefault(row_sheet, [])
         if tag not in tags_by_sheet[row_sheet]:
             tags_by_sheet[row_sheet].append(tag)
     for name, n in counts.items():
-        ws.append([cell(ws, name), cell(ws, n), cell(ws, ", ".join(tags_by_sheet.get(name, [])))])
-        r += 1
+        rows.append([(name, plain), (n, plain), (", ".join(tags_by_sheet.get(name, [])), plain)])
     if cset.skipped:
-        ws.append([])
-        ws.append([cell(ws, "Tags without a table", font=bold)])
-        r += 2
+        rows.append([])
+        rows.append([("Tags without a table", bold)])
         for s in cset.skipped:
-            ws.append([cell(ws, s.tag), cell(ws, s.loop), cell(ws, s.reason)])
-            r += 1
-    ws.print_area = f"A1:D{r}"
+            rows.append([(s.tag, plain), (s.loop, plain), (s.reason, plain)])
+    ws.print_area = f"A1:D{rows.row + 1}"
     ws.close()
 
 
@@ -461,21 +553,21 @@ def _sheet_tags(cset: CalibrationSet, counts: dict[str, int], sheet_per: str) ->
 
 def _start_record(wb: Any, cset: CalibrationSet) -> Any:
     """The very hidden record sheet, streamed: its two head rows now, a row per test row
-    as the value sheets are written (:func:`_record_row`)."""
-    from loopdocs.sheets.cells import streamed_cell
+    as the value sheets are written (:func:`_record_values`); its ``RowWriter``."""
+    from loopdocs.sheets.sheet_rows import RowWriter
 
     ws = wb.create_sheet(RECORD_SHEET)
     ws.sheet_state = "veryHidden"
     ws.protection.sheet = True
-    ws.append([streamed_cell(ws, value) for value in (FORMAT_TAG, cset.project, cset.revision, cset.index_path)])
-    ws.append(list(RECORD_COLUMNS))
-    return ws
+    rows = RowWriter(ws)
+    rows.append_values((FORMAT_TAG, cset.project, cset.revision, cset.index_path))
+    rows.append_values(RECORD_COLUMNS)
+    return rows
 
 
-def _record_row(ws: Any, row: IssuedRow) -> None:
-    from loopdocs.sheets.cells import streamed_values
-
-    ws.append(streamed_values(ws, [getattr(row, name) for name in RECORD_COLUMNS]))
+def _record_values(row: IssuedRow) -> list[Any]:
+    """The record sheet's cells of one issued row, in ``RECORD_COLUMNS`` order."""
+    return [getattr(row, name) for name in RECORD_COLUMNS]
 
 
 # --------------------------------------------------------------------------- reading
