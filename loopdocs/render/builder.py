@@ -5,14 +5,21 @@ Steps (:func:`build`):
 1. read and check the project (``loopdocs.checks.check_project``), validate ``[sheet]``;
 2. give every loop its sheet number, output file name (``loopdocs.core.names``) and cache key
    (``loopdocs.render.cache``); loops whose output is fresh are reused;
-3. render the others in a ``ProcessPoolExecutor`` (``workers`` processes, default
-   ``os.cpu_count()``, forked, in waves of ``SHEETS_PER_PROCESS`` sheets per worker so
-   that memory does not grow with the number of loops); each worker holds the project
-   once (pool initializer), draws the loop's diagram and range charts, takes its
-   calibration tables, renders the HTML and writes the PDF with ``atomic_write``
-   (temporary file, then rename);
-4. unless a selection was asked for, render the front matter (cover sheet, drawing list)
-   and join everything into the package, again through a temporary file.
+3. unless a selection was asked for, lay out the front matter (cover sheet, drawing list)
+   as HTML in parts of ``LIST_ROWS_PER_PART`` rows, each part keyed on its own HTML, so
+   that editing one loop renders again only the part that lists it (and the cover when
+   its counts change);
+4. render the stale front parts and sheets in a ``ProcessPoolExecutor`` (``workers``
+   processes, default ``os.cpu_count()``, forked, in waves of ``SHEETS_PER_PROCESS``
+   sheets per worker so that memory does not grow with the number of loops); each
+   worker holds the project and the split groups by loop once (pool initializer) and
+   one weasyprint font configuration (``loopdocs.render.pdf.start_worker``), draws the
+   loop's diagram and range charts, takes its calibration tables, renders the HTML,
+   writes the PDF with ``atomic_write`` (temporary file, then rename) and keeps its join
+   fragment (``loopdocs.render.package.cached_fragment``);
+5. join everything into the package from the kept fragments, again through a temporary file.
+
+The checks run with the cyclic garbage collector off (as in ``loopdocs check``).
 
 Output folder::
 
@@ -32,6 +39,7 @@ from __future__ import annotations
 
 import errno
 import functools
+import gc
 import json
 import os
 import signal
@@ -178,6 +186,30 @@ class Job:
     """The revision marks of the sheet (``loopdocs.draw.revision_marks.RevisionMarks``): its
     current revision and the tags changed in it; in the cache key through ``frame_record``."""
 
+    @property
+    def label(self) -> str:
+        return f"loop {self.loop_id}"
+
+
+@dataclass(frozen=True)
+class FrontJob:
+    """One part of the package's front matter: its HTML (``package.front_html``) and where
+    its PDF goes; ``key`` is the digest of that HTML (plus the environment and PDF/A)."""
+
+    part: int
+    html: str
+    path: Path
+    key: str
+
+    @property
+    def name(self) -> str:
+        """Its name in the manifest's artefacts."""
+        return f"front-{self.part}"
+
+    @property
+    def label(self) -> str:
+        return "the cover sheet and drawing list" if self.part == 0 else f"the drawing list (part {self.part + 1})"
+
 
 # --- worker side -----------------------------------------------------------------------
 
@@ -214,21 +246,37 @@ def _die_with_parent(parent_pid: int) -> None:
         threading.Thread(target=watch, name="loopdocs-parent-watch", daemon=True).start()
 
 
-def _init_worker(checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool) -> None:
-    """Pool initializer: die with the build process; keep the checked project for every job
-    of this process."""
-    from loopdocs.render.pdf import quiet_weasyprint
+def _init_worker(checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool,
+                 splits_by_loop: dict[str, list[Any]] | None = None, fragment_dir: Path | None = None) -> None:
+    """Pool initializer: die with the build process; keep the checked project, its split
+    groups by loop (:func:`splits_by_loop`) and one font configuration for every job of
+    this process (``pdf.start_worker``: one parsed stylesheet too); ``fragment_dir``:
+    where each rendered PDF's join fragment is kept."""
+    from loopdocs.render.pdf import quiet_weasyprint, start_worker
 
     if _PARENT_PID and os.getpid() != _PARENT_PID:  # a forked worker, not the build process itself
         signal.signal(signal.SIGTERM, signal.SIG_DFL)  # the build's own handler is for the build
         _die_with_parent(_PARENT_PID)
     quiet_weasyprint()
+    start_worker()
     _STATE.clear()
-    _STATE.update(checked=checked, settings=settings, project_dir=project_dir, pdfa=pdfa)
+    _STATE.update(checked=checked, settings=settings, project_dir=project_dir, pdfa=pdfa,
+                  splits_by_loop=splits_by_loop, fragment_dir=fragment_dir)
 
 
 def _splits(checked: Any) -> list[Any]:
     return list(getattr(checked, "splits", None) or [])
+
+
+def splits_by_loop(splits: Sequence[Any]) -> dict[str, list[Any]]:
+    """The split groups by the loop whose sheet shows them (``pieces.group_loop``), made
+    once per build instead of each sheet scanning every group of the project."""
+    from loopdocs.render.pieces import group_loop
+
+    by_loop: dict[str, list[Any]] = {}
+    for group in splits:
+        by_loop.setdefault(group_loop(group), []).append(group)
+    return by_loop
 
 
 def _pieces(job: Job):
@@ -236,7 +284,20 @@ def _pieces(job: Job):
     from loopdocs.render.pieces import loop_pieces
 
     checked = _STATE["checked"]
-    return loop_pieces(checked.project, job.loop_id, job.findings, _splits(checked), _STATE, job.marks)
+    by_loop = _STATE.get("splits_by_loop")
+    if by_loop is None:
+        by_loop = _STATE["splits_by_loop"] = splits_by_loop(_splits(checked))
+    return loop_pieces(checked.project, job.loop_id, job.findings, by_loop.get(job.loop_id, ()), _STATE, job.marks)
+
+
+def _keep_fragment(path: Path) -> None:
+    """Make the join fragment of the PDF just written (``package.cached_fragment``) here in
+    the worker, so that joining the package only reads it."""
+    folder = _STATE.get("fragment_dir")
+    if folder is not None:
+        from loopdocs.render.package import cached_fragment
+
+        cached_fragment(path, folder)
 
 
 def render_job(job: Job) -> tuple[str, float]:
@@ -263,7 +324,24 @@ def render_job(job: Job) -> tuple[str, float]:
         shareable(tmp)
 
     atomic_write(job.path, write)
+    _keep_fragment(job.path)
     return job.loop_id, time.perf_counter() - started
+
+
+def render_front(job: FrontJob) -> tuple[str, float]:
+    """Render one front-matter part to ``job.path`` (worker side). Returns (name, seconds)."""
+    from loopdocs.render.pdf import html_to_pdf
+
+    started = time.perf_counter()
+    pdf = html_to_pdf(job.html, allowed_dirs=[_STATE["project_dir"]], pdfa=_STATE["pdfa"])
+    atomic_write(job.path, lambda tmp: (tmp.write_bytes(pdf), shareable(tmp)))
+    _keep_fragment(job.path)
+    return job.name, time.perf_counter() - started
+
+
+def _run(job: Job | FrontJob) -> tuple[str, float]:
+    """The worker function of a job (looked up when called: tests replace ``render_job``)."""
+    return render_job(job) if isinstance(job, Job) else render_front(job)
 
 
 # --- main side ---------------------------------------------------------------------------
@@ -321,14 +399,31 @@ def build(
     from loopdocs.read.project_file import locate
     from loopdocs.draw.symbols import symbols_dir
     from loopdocs.core.names import unique_filenames
+    started = time.perf_counter()
+    return _build(path, out_dir, started, loops=loops, workers=workers, pdfa=pdfa, force=force,
+                  progress=progress, issue=issue, issue_date=issue_date)
+
+
+def _build(path: Path, out_dir: Path, started: float, *, loops: Sequence[str], workers: int | None, pdfa: bool,
+           force: bool, progress: Callable[[int, int, str], None] | None, issue: str | None,
+           issue_date: str | None) -> BuildResult:
+    """:func:`build`, inside the output folder's lock."""
+    from loopdocs.read.project_file import locate
+    from loopdocs.draw.symbols import symbols_dir
+    from loopdocs.core.names import unique_filenames
     from loopdocs.checks import check_project
-    from loopdocs.render.pieces import group_loop, loop_findings, loop_record
+    from loopdocs.render.pieces import loop_findings, loop_record
     from loopdocs.draw.revision_marks import revision_marks
 
-    started = time.perf_counter()
     out_dir = Path(out_dir)
     paths = locate(Path(path))
-    checked = check_project(Path(path))
+    collecting = gc.isenabled()
+    gc.disable()  # many small records that all live to the end: the cycle collector only costs time
+    try:
+        checked = check_project(Path(path))
+    finally:
+        if collecting:
+            gc.enable()
     project = checked.project
     settings = sheet_settings(project.config.sheet, paths.config_file)
     result = BuildResult(out_dir=out_dir, findings=list(checked.findings))
@@ -354,10 +449,7 @@ def build(
         remove_partials(folder)
 
     names = unique_filenames(all_loops)
-    splits = _splits(checked)
-    splits_by_loop: dict[str, list[Any]] = {}
-    for group in splits:
-        splits_by_loop.setdefault(group_loop(group), []).append(group)
+    groups_by_loop = splits_by_loop(_splits(checked))
     symbols = symbols_dir()
     environment = environment_digest(TEMPLATES_DIR, symbols, SOURCE_DIR)
     manifest = Manifest(out_dir)
@@ -368,7 +460,7 @@ def build(
     links: dict[str, Any] = {}
     for number, loop_id in enumerate(all_loops, start=1):
         found = findings_by_loop[loop_id]
-        record = loop_record(project, loop_id, found, splits_by_loop.get(loop_id, ()), links)
+        record = loop_record(project, loop_id, found, groups_by_loop.get(loop_id, ()), links)
         own = loop_settings(settings, new_state, loop_id)
         changes = new_state.loops[loop_id].changed if new_state is not None and loop_id in new_state.loops else ()
         result.revisions[loop_id] = current_revision(project.config.title_block, own) if new_state is not None else ""
@@ -391,15 +483,20 @@ def build(
                 remove_inside(out_dir, entry.file)  # only our own sheet inside the output folder
                 result.removed.append(gone)
 
+    front: list[FrontJob] = []
+    if not loops:
+        front = _front_jobs(project, settings, checked.findings, findings_by_loop, all_loops, result, pdfa, new_state)
+    stale_front = [job for job in front if not manifest.artefact_fresh(job.name, job.key)]
     try:
-        _render(jobs, checked, settings, paths.folder, pdfa, workers or _default_workers(), manifest, result, progress)
+        _render([*stale_front, *jobs], checked, settings, paths.folder, pdfa, workers or _default_workers(), manifest,
+                result, progress, splits_by_loop=groups_by_loop, fragment_dir=cache_dir / FRAGMENTS_DIR)
     finally:
         remove_partials(loops_dir)
+        remove_partials(cache_dir)
         manifest.save()
 
     if not loops:
-        _package(project, settings, checked.findings, findings_by_loop, all_loops, keys, result, manifest, pdfa,
-                 paths.folder, new_state)
+        _package(project, settings, all_loops, keys, result, manifest, pdfa, front, new_state)
         manifest.save()
     result.seconds = time.perf_counter() - started
     return result
@@ -430,54 +527,60 @@ def _today() -> str:
     return datetime.date.today().isoformat()
 
 
-def _render(jobs: list[Job], checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool,
+def _render(jobs: list[Job | FrontJob], checked: Any, settings: SheetSettings, project_dir: Path, pdfa: bool,
             workers: int, manifest: Manifest, result: BuildResult,
-            progress: Callable[[int, int, str], None] | None) -> None:
-    """Render ``jobs``, recording each finished sheet in the manifest as it lands."""
-    total = len(jobs)
+            progress: Callable[[int, int, str], None] | None, *,
+            splits_by_loop: dict[str, list[Any]] | None = None, fragment_dir: Path | None = None) -> None:
+    """Render ``jobs`` (sheets and front-matter parts), recording each in the manifest as
+    it lands; ``progress`` counts the sheets."""
+    total = sum(1 for job in jobs if isinstance(job, Job))
     done = 0
     last_save = time.monotonic()
 
-    def finished(job: Job, seconds: float) -> None:
+    def finished(job: Job | FrontJob, seconds: float) -> None:
         nonlocal done, last_save
-        result.render_seconds[job.loop_id] = seconds
-        manifest.record(job.loop_id, job.key, job.path)
-        result.rendered.append(job.loop_id)
-        done += 1
-        if progress:
-            progress(done, total, job.loop_id)
+        if isinstance(job, FrontJob):
+            manifest.record_artefact(job.name, job.key, job.path)
+            result.front_rendered = True
+        else:
+            result.render_seconds[job.loop_id] = seconds
+            manifest.record(job.loop_id, job.key, job.path)
+            result.rendered.append(job.loop_id)
+            done += 1
+            if progress:
+                progress(done, total, job.loop_id)
         if time.monotonic() - last_save >= MANIFEST_SAVE_S:
             manifest.save()
             last_save = time.monotonic()
 
     if not jobs:
         return
-    if total <= 2 or (workers <= 1 and total <= SHEETS_PER_PROCESS):
-        _init_worker(checked, settings, project_dir, pdfa)
+    initargs = (checked, settings, project_dir, pdfa, splits_by_loop, fragment_dir)
+    if len(jobs) <= 1 or (workers <= 1 and len(jobs) <= SHEETS_PER_PROCESS):
+        _init_worker(*initargs)
         for job in jobs:
-            finished(job, render_job(job)[1])
+            finished(job, (render_job(job) if isinstance(job, Job) else render_front(job))[1])
         return
     import multiprocessing
 
     _warm_up()
     context = multiprocessing.get_context("fork") if "fork" in multiprocessing.get_all_start_methods() else None
-    count = max(1, min(workers, total))
+    count = max(1, min(workers, len(jobs)))
     wave = count * SHEETS_PER_PROCESS
-    for start in range(0, total, wave):
-        _render_wave(jobs[start:start + wave], count, context, (checked, settings, project_dir, pdfa), result, finished)
+    for start in range(0, len(jobs), wave):
+        _render_wave(jobs[start:start + wave], count, context, initargs, result, finished)
 
 
 def _warm_up() -> None:
     """Import weasyprint and lay out one line in this process before forking, so that every
-    worker starts with the fonts already found."""
-    from loopdocs.render.pdf import html_to_pdf, quiet_weasyprint
+    worker starts with the fonts already found (``pdf.warm_up``: once per process)."""
+    from loopdocs.render.pdf import warm_up
 
-    quiet_weasyprint()
-    html_to_pdf("<p>loopdocs</p>")
+    warm_up()
 
 
-def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, result: BuildResult,
-                 finished: Callable[[Job, float], None]) -> None:
+def _render_wave(jobs: list[Job | FrontJob], count: int, context: Any, initargs: tuple, result: BuildResult,
+                 finished: Callable[[Job | FrontJob, float], None]) -> None:
     """One pool of ``count`` fresh worker processes for ``jobs`` (each worker renders about
     ``SHEETS_PER_PROCESS`` sheets, then the pool is shut down: the C libraries under
     weasyprint keep about 0.25 MB per sheet rendered, so long-lived workers would grow
@@ -485,7 +588,7 @@ def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, res
     global _PARENT_PID
     _PARENT_PID = os.getpid()
     with ProcessPoolExecutor(max_workers=count, mp_context=context, initializer=_init_worker, initargs=initargs) as pool:
-        pending: dict[Future, Job] = {pool.submit(render_job, job): job for job in jobs}
+        pending: dict[Future, Job | FrontJob] = {pool.submit(_run, job): job for job in jobs}
         try:
             while pending:
                 complete, _ = wait(pending, return_when=FIRST_COMPLETED)
@@ -496,12 +599,12 @@ def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, res
                     except OSError as exc:
                         if exc.errno in (errno.EACCES, errno.EPERM, errno.EROFS):
                             raise  # the output folder cannot be written: one line, see _one_writer
-                        raise BuildError(f"loop {job.loop_id}: the sheet could not be written ({exc})") from exc
+                        raise BuildError(f"{job.label}: the sheet could not be written ({exc})") from exc
                     except BrokenProcessPool:
-                        raise BuildError(f"a rendering process died while building loop {job.loop_id}; "
+                        raise BuildError(f"a rendering process died while building {job.label}; "
                                          f"{len(result.rendered)} sheet(s) finished and kept, run the build again") from None
                     except Exception as exc:
-                        raise BuildError(f"loop {job.loop_id}: the sheet could not be rendered ({type(exc).__name__}: {exc})") from exc
+                        raise BuildError(f"{job.label}: the sheet could not be rendered ({type(exc).__name__}: {exc})") from exc
                     finished(job, seconds)
         except BaseException:
             for future in pending:
@@ -510,14 +613,15 @@ def _render_wave(jobs: list[Job], count: int, context: Any, initargs: tuple, res
             raise
 
 
-def _package(project: Project, settings: SheetSettings, findings: Sequence[Finding],
-             findings_by_loop: dict[str, list[Finding]], all_loops: list[str], keys: dict[str, str],
-             result: BuildResult, manifest: Manifest, pdfa: bool, project_dir: Path, state: Any = None) -> None:
-    """Front matter (cached by content) and the joined package (rejoined when any part changed).
-    With a revision state each sheet's line in the drawing list carries its own revision,
-    and the cover lists the issues recorded in the state."""
+def _front_jobs(project: Project, settings: SheetSettings, findings: Sequence[Finding],
+                findings_by_loop: dict[str, list[Finding]], all_loops: list[str], result: BuildResult,
+                pdfa: bool, state: Any = None) -> list[FrontJob]:
+    """The front matter as parts of ``LIST_ROWS_PER_PART`` rows of the drawing list (the
+    first with the cover sheet), each keyed on its own HTML: a part is rendered again only
+    when what it shows changed. With a revision state each sheet's line in the drawing
+    list carries its own revision, and the cover lists the issues recorded in the state."""
     from loopdocs.model.revisions import STATUS_NOT_FOR_CONSTRUCTION, STATUS_RELEASED
-    from loopdocs.render.package import LIST_ROWS_PER_PART, ListRow, front_html, issue_rows, write_package
+    from loopdocs.render.package import LIST_ROWS_PER_PART, ListRow, front_html, issue_rows
 
     tb = project.config.title_block
     revision = current_revision(tb, settings)
@@ -529,33 +633,34 @@ def _package(project: Project, settings: SheetSettings, findings: Sequence[Findi
                             project.loops[loop_id].service or "", result.revisions.get(loop_id) or revision,
                             status == STATUS_NOT_FOR_CONSTRUCTION, status == STATUS_RELEASED))
     counts = FindingCounts.of(findings)
-    front_key = digest_json({
-        "rows": [vars(r) for r in rows], "counts": counts.as_json(), "pdfa": pdfa,
-        "issues": [r.model_dump(mode="json") for r in issues] if issues is not None else None,
-        "title_block": tb.model_dump(mode="json"), "sheet": settings.model_dump(mode="json"),
-        "environment": environment_digest(TEMPLATES_DIR, None, SOURCE_DIR),
-    })
-    front_paths = []
+    environment = environment_digest(TEMPLATES_DIR, None, SOURCE_DIR)
+    jobs = []
     for part, first in enumerate(range(0, max(1, len(rows)), LIST_ROWS_PER_PART)):
-        path = result.out_dir / CACHE_DIR_NAME / FRONT_CACHE.format(part=part)
-        front_paths.append(path)
-        key = digest_json({"front": front_key, "part": part})
-        if manifest.artefact_fresh(f"front-{part}", key):
-            continue
-        from loopdocs.render.pdf import html_to_pdf
-
         html = front_html(tb, settings, rows, open_errors=counts.error, open_warnings=counts.warning,
                           accepted=counts.accepted, first=first, count=LIST_ROWS_PER_PART, issues=issues)
-        pdf = html_to_pdf(html, allowed_dirs=[project_dir], pdfa=pdfa)
-        atomic_write(path, lambda tmp: (tmp.write_bytes(pdf), shareable(tmp)))
-        manifest.record_artefact(f"front-{part}", key, path)
-        result.front_rendered = True
-    for stale in set(manifest.artefacts) - {f"front-{i}" for i in range(len(front_paths))} - {"package"}:
+        key = digest_json({"html": html, "part": part, "pdfa": pdfa, "environment": environment})
+        jobs.append(FrontJob(part, html, result.out_dir / CACHE_DIR_NAME / FRONT_CACHE.format(part=part), key))
+    return jobs
+
+
+def _package(project: Project, settings: SheetSettings, all_loops: list[str], keys: dict[str, str],
+             result: BuildResult, manifest: Manifest, pdfa: bool, front: Sequence[FrontJob], state: Any = None) -> None:
+    """The joined package (rejoined when a sheet or a front-matter part changed), from the
+    fragments the workers kept; front-matter parts no longer needed are deleted."""
+    from loopdocs.render.package import issue_rows, write_package
+
+    tb = project.config.title_block
+    issues = issue_rows(state) if state is not None else None
+    front_paths = [job.path for job in front]
+    for stale in set(manifest.artefacts) - {job.name for job in front} - {"package"}:
         entry = manifest.artefacts.pop(stale)
         remove_inside(result.out_dir, entry.file)
 
     package_path = result.out_dir / PACKAGE_NAME
-    package_key = digest_json({"front": front_key, "loops": [keys[l] for l in all_loops], "pdfa": pdfa})
+    package_key = digest_json({"front": [job.key for job in front], "loops": [keys[l] for l in all_loops],
+                               "pdfa": pdfa, "title_block": tb.model_dump(mode="json"),
+                               "sheet": settings.model_dump(mode="json"),
+                               "revision": issues[-1].rev if issues else None})
     result.package = package_path
     if manifest.artefact_fresh("package", package_key) and not result.rendered and not result.front_rendered:
         return

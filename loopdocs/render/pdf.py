@@ -12,6 +12,7 @@ weasyprint is imported when this module is imported: keep it out of ``loopdocs c
 from __future__ import annotations
 
 import logging
+import os
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -60,8 +61,141 @@ class JsonAttachment:
     description: str = ""
 
 
+_PROCESS: dict[str, object] = {}
+"""What this process keeps between documents once :func:`start_worker` ran (its id, the
+font configuration, whether it was warmed up)."""
+
+
+def start_worker() -> None:
+    """Keep one weasyprint font configuration (``FontConfiguration``: the Pango font map
+    and fontconfig setup) for every document this process renders from now on, instead
+    of one per document. Documents keep their own fonts (weasyprint's ``Document.fonts``),
+    so each PDF embeds only its own glyphs; the sheets have no ``@font-face`` rules that
+    the configuration would collect. The templates' ``sheet.css`` is parsed once too
+    (:func:`_keep_stylesheet`). A process forked after this makes its own at its first
+    document."""
+    _PROCESS["pid"] = os.getpid()
+    _PROCESS.pop("fonts", None)
+    _PROCESS.pop("stylesheet", None)
+    _keep_stylesheet()
+
+
+SHEET_CSS = TEMPLATES_DIR / "sheet.css"
+
+
+def plain_stylesheet(text: str) -> bool:
+    """Whether a stylesheet holds only style rules, ``@page`` and ``@media`` (no
+    ``@font-face``, ``@import``, ``@layer``, ``@counter-style``...: nothing that a parse
+    registers outside the stylesheet itself), so that one parse can serve every document."""
+    import tinycss2
+
+    def plain(rules) -> bool:  # noqa: ANN001
+        for rule in rules:
+            if rule.type == "error":
+                return False
+            if rule.type != "at-rule":
+                continue
+            if rule.lower_at_keyword not in ("page", "media"):
+                return False
+            if rule.lower_at_keyword == "media" and rule.content is not None and not plain(
+                    tinycss2.parse_rule_list(rule.content, skip_comments=True, skip_whitespace=True)):
+                return False
+        return True
+
+    return plain(tinycss2.parse_stylesheet(text, skip_comments=True, skip_whitespace=True))
+
+
+def _keep_stylesheet() -> None:
+    """Parse the templates' ``sheet.css`` once per process (:func:`start_worker`) instead of
+    once per document. weasyprint makes a ``CSS`` object for each ``<link>`` of a document
+    (``weasyprint.css.find_stylesheets``, author origin); this wraps the ``CSS`` that
+    function calls: for ``sheet.css`` (unchanged on disk, :func:`plain_stylesheet`) it
+    returns a copy of the stylesheet parsed first, its selector matcher shared, its
+    ``@page`` rules added to the document's list exactly as a parse adds them. Any other
+    stylesheet, another process, or a document not rendered by :func:`html_to_pdf` or
+    :func:`sheet_pdf`, gets weasyprint's own ``CSS``."""
+    import weasyprint.css as css_module
+
+    real = getattr(css_module.CSS, "loopdocs_real", css_module.CSS)
+    if not isinstance(real, type):
+        return
+
+    def kept_css(*args, url=None, page_rules=None, layers=None, **options):  # noqa: ANN001, ANN002, ANN003, ANN202
+        path = _sheet_css_path(url) if not args and _PROCESS.get("rendering") == os.getpid() else None
+        if path is None:
+            return real(*args, url=url, page_rules=page_rules, layers=layers, **options)
+        stat = path.stat()
+        stamp = (str(url), options.get("media_type"), stat.st_size, stat.st_mtime_ns)
+        kept = _PROCESS.get("stylesheet")
+        if kept is None or kept[0] != stamp:
+            if not plain_stylesheet(path.read_text(encoding="utf-8")):
+                return real(*args, url=url, page_rules=page_rules, layers=layers, **options)
+            own_rules: list = []
+            parsed = real(url=url, page_rules=own_rules, layers=[], **options)
+            kept = _PROCESS["stylesheet"] = (stamp, parsed, tuple(own_rules))
+        _, parsed, rules = kept
+        sheet = object.__new__(real)
+        sheet.__dict__.update(parsed.__dict__)
+        sheet.page_rules = [] if page_rules is None else page_rules
+        sheet.page_rules.extend(rules)
+        sheet.layers = [] if layers is None else layers
+        return sheet
+
+    kept_css.loopdocs_real = real
+    css_module.CSS = kept_css
+
+
+def _sheet_css_path(url) -> Path | None:  # noqa: ANN001
+    """The path of ``url`` when it is the templates' ``sheet.css`` (a ``file:`` URL), else ``None``."""
+    if not isinstance(url, str) or not url.startswith("file:"):
+        return None
+    parts = urlsplit(url)
+    if parts.netloc not in ("", "localhost") or parts.query or parts.fragment:
+        return None
+    path = Path(unquote(parts.path))
+    return path if path == SHEET_CSS or path.resolve() == SHEET_CSS.resolve() else None
+
+
+def _font_config():
+    """The font configuration kept by :func:`start_worker` in this very process, else
+    ``None`` (weasyprint then makes one for the document)."""
+    if _PROCESS.get("pid") != os.getpid():
+        if "pid" in _PROCESS:  # forked from a process that kept one: keep our own
+            start_worker()
+        else:
+            return None
+    fonts = _PROCESS.get("fonts")
+    if fonts is None:
+        from weasyprint.text.fonts import FontConfiguration
+
+        fonts = _PROCESS["fonts"] = FontConfiguration()
+    return fonts
+
+
+WARM_UP_HTML = '<html><head><link rel="stylesheet" href="sheet.css"></head><body><p>loopdocs 0-9</p></body></html>'
+
+
+def warm_up() -> None:
+    """Lay out and write one line with the sheets' stylesheet, once per process: fonts
+    found, the font subsetter imported, before the first sheet (or before forking workers,
+    which then start warm)."""
+    if _PROCESS.get("warm") == os.getpid():
+        return
+    quiet_weasyprint()
+    html_to_pdf(WARM_UP_HTML)
+    _PROCESS["warm"] = os.getpid()
+
+
 def _document(html: str, fetcher: ProjectFetcher, base_url: Path):
-    return HTML(string=html, base_url=str(Path(base_url).resolve()) + "/", url_fetcher=fetcher).render()
+    fonts = _font_config()
+    document = HTML(string=html, base_url=str(Path(base_url).resolve()) + "/", url_fetcher=fetcher)
+    if fonts is None:
+        return document.render()
+    _PROCESS["rendering"] = os.getpid()  # the kept sheet.css serves our own documents only
+    try:
+        return document.render(font_config=fonts)
+    finally:
+        _PROCESS.pop("rendering", None)
 
 
 def _write(document, fetcher: ProjectFetcher, pdfa: bool, attachments: Sequence[JsonAttachment],
