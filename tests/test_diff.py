@@ -261,3 +261,54 @@ def test_calibration_limited_to_touched_tags_finds_the_same_tables(issues):
     assert "TV-101A" in changes.touched and "TIC-101" in changes.touched  # group of the changed TV-101B
     assert "PT-1302" in changes.touched and "FT-1401" not in changes.touched
     assert changed_tables(old, new, rename, changes.touched) == changed_tables(old, new, rename)
+
+
+# --- only the split groups a change can reach are built -----------------------------------
+
+def _edited(project, *, update=None, drop=(), rename=None, add=None):
+    """A copy of ``project`` with cells of some tags changed, tags dropped, one renamed or
+    one added (records edited in memory; the comparison reads only ``tags``)."""
+    tags = {}
+    for name, tag in project.tags.items():
+        if name in drop:
+            continue
+        if update and name in update:
+            tag = tag.model_copy(update=update[name])
+        if rename and name in rename:
+            tag = tag.model_copy(update={"tag": rename[name]})
+            name = rename[name]
+        tags[name] = tag
+    if add:
+        for tag in add:
+            tags[tag.tag] = tag
+    return project.model_copy(update={"tags": tags})
+
+
+@pytest.mark.parametrize("edit", [
+    {"update": {"PV-4120B": {"co_start_pct": 10.0}}},                       # a boundary moves
+    {"update": {"TV-5310B": {"driven_by": "TIC-3105"}}},                     # a valve changes group
+    {"update": {"PY-4120": {"input_low": 4.0, "input_high": 20.0}}},         # the relay of a group
+    {"update": {"LIC-2101": {"control_action": None}}},                      # the controller itself
+    {"drop": ("LV-2101B",)},                                                  # a split loses a valve
+    {"drop": ("PIC-6201",)},                                                  # a group loses its controller
+    {"rename": {"TIC-3105": "TIC-3106"}},                                     # controller renamed, valves still name the old tag
+    {"rename": {"PV-6201B": "PV-6201C"}},                                     # a valve renamed
+    {"update": {"TT-3105": {"range_high": 45.0}}},                            # no group concerned
+])
+def test_comparing_only_the_groups_a_change_reaches_gives_the_full_comparison(edit, monkeypatch):
+    # A split group is worked out from its own rows only (controller, relays, valves:
+    # docs/design.md §4), so building just the groups that a changed, added, removed or
+    # renamed tag can reach must give exactly what building every group of both issues
+    # gives (the full comparison, made here by ignoring the restriction).
+    from loopdocs.model import groups as groups_module
+    from loopdocs.model.changes import compare_projects
+    from loopdocs.model.loading import load_project
+
+    old = load_project(Path(__file__).resolve().parents[1] / "project_example")[0]
+    new = _edited(old, **edit)
+    quick = compare_projects(old, new)
+    every_group = groups_module.build_groups
+    monkeypatch.setattr(groups_module, "build_groups", lambda project, controllers=None: every_group(project))
+    full = compare_projects(old, new)
+    assert quick == full
+    assert quick.any

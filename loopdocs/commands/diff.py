@@ -30,9 +30,12 @@ def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text, out: O
     from loopdocs.model.changes import compare_projects
     from loopdocs.model.loading import load_project
 
+    from loopdocs.read.background import start_reading
+
     try:
+        later = start_reading(new)  # the later workbook parses on a second thread meanwhile
         before = load_project(old)[0]
-        after = load_project(new)[0]
+        after = load_project(new, later)[0]
     except InputError as exc:
         fail_input(exc)
     changes = compare_projects(before, after)

@@ -143,8 +143,18 @@ def _cells(tag: Tag) -> dict[str, Any]:
     return cells
 
 
+@cache
+def _compared_values() -> Any:
+    from operator import attrgetter
+
+    return attrgetter(*_compared_keys())
+
+
 def field_changes(old: Tag, new: Tag) -> tuple[FieldChange, ...]:
     """The cells of one tag that differ between two issues, in column order."""
+    values = _compared_values()
+    if values(old) == values(new) and old.extra == new.extra:
+        return ()  # the usual case, every cell equal: one comparison of two tuples
     a, b = _cells(old), _cells(new)
     out = []
     for key in list(a) + [k for k in b if k not in a]:
@@ -239,10 +249,16 @@ def compare_projects(old: Project, new: Project) -> ProjectChanges:
     for c in changed:
         loops.update((old.tags[c.tag].loop, new.tags[c.tag].loop))
     rename = {r.old: r.new for r in renamed}
-    from loopdocs.model.groups import groups_for
+    from loopdocs.model.groups import build_groups, controllers_of
 
-    before = groups_for(old)  # old first: groups_for keeps the last project's groups
-    after = groups_for(new)
+    # Only the split groups a changed, added, removed or renamed tag can take part in are
+    # built and compared: every other group rests on equal rows and comes out equal. The
+    # controllers are named in both issues' spellings, renames mapped both ways.
+    named = controllers_of(old, {t.tag for t in removed} | set(rename) | {c.tag for c in changed})
+    named |= controllers_of(new, {t.tag for t in added} | set(rename.values()) | {c.tag for c in changed})
+    named |= {rename[n] for n in named if n in rename} | {o for o, n in rename.items() if n in named}
+    before = build_groups(old, named)
+    after = build_groups(new, named)
     splits = _split_changes(before, after, rename)
     seeds = {t.tag for t in (*added, *removed)} | {r.new for r in renamed} | {c.tag for c in changed}
     touched = set(seeds - {t.tag for t in removed})

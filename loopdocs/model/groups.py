@@ -78,6 +78,7 @@ from __future__ import annotations
 
 import math
 from collections import defaultdict
+from collections.abc import Collection, Iterable
 from dataclasses import dataclass, field
 from functools import cached_property, lru_cache
 from typing import Any
@@ -328,8 +329,9 @@ def _num(value: float) -> float:
 # --------------------------------------------------------------------------- building
 
 
-def build_groups(project: Project) -> list[SplitGroup]:
-    """Every split group of the project, in natural order of the controller tag."""
+def build_groups(project: Project, controllers: Collection[str] | None = None) -> list[SplitGroup]:
+    """Every split group of the project, in natural order of the controller tag; with
+    ``controllers``, only the groups of those controllers (see :func:`controllers_of`)."""
     from loopdocs.model.from_rows import natural_key
 
     tags = project.tags
@@ -348,12 +350,29 @@ def build_groups(project: Project) -> list[SplitGroup]:
     groups = []
     made: dict[tuple, list[Any]] = {}
     for controller in sorted(members, key=natural_key):
+        if controllers is not None and controller not in controllers:
+            continue
         records = members[controller]
         if len(records) > 1:
             records = sorted(records, key=lambda t: natural_key(t.tag))
         relays = tuple(sorted(converters[controller].values(), key=lambda t: natural_key(t.tag))) if controller in converters else ()
         groups.append(_build_group(project, controller, records, relays, made))
     return groups
+
+
+def controllers_of(project: Project, names: Iterable[str]) -> set[str]:
+    """The controllers whose split groups the tags ``names`` can take part in: a tag's own
+    name (it may be a controller, or be named as one by a Driven By cell), and the
+    controller its Driven By chain leads to through relays. The groups of other
+    controllers do not depend on these tags (``build_groups(project, controllers)``)."""
+    tags = project.tags
+    found = set()
+    for name in names:
+        found.add(name)
+        record = tags.get(name)
+        if record is not None and record.driven_by:
+            found.add(_resolve_driver(tags, record.driven_by)[0])
+    return found
 
 
 _CACHE: list[Any] = [None, None]
