@@ -36,6 +36,9 @@ class CellStyle:
         self.index: int | None = None if array is not None and any(array) else 0  # a default style writes no s=
 
 
+_INFINITE = (float("inf"), float("-inf"))
+
+
 def _escape(text: str) -> str:
     """Text as XML character data (ElementTree's ``_escape_cdata``: ``&``, ``<``, ``>``)."""
     if "&" in text:
@@ -120,21 +123,29 @@ class RowWriter:
             index = style.index if style.index is not None else self.style_index(style)
             if index:
                 s = f' s="{index}"'
+        kind = value.__class__
+        if kind is float or kind is int:  # the most frequent, first
+            if value != value or value in _INFINITE:  # openpyxl's safe_string: no number
+                return f'<c r="{ref}"{s} t="n"><v /></c>'
+            return f'<c r="{ref}"{s} t="n"><v>{"%.16g" % value}</v></c>'
         if value is None:
             return f'<c r="{ref}"{s} t="n" />' if s else ""
-        if value.__class__ is str or isinstance(value, str):
-            value = self._text(value)
+        if kind is str or isinstance(value, str):
+            if not (value.isascii() and value.isprintable()) or len(value) > 32767:
+                value = self._text(value)
             if value == "":
                 return f'<c r="{ref}"{s} t="inlineStr" />'
             if value in self._errors:
                 return f'<c r="{ref}"{s} t="e"><v>{value}</v></c>'
-            stripped = value.strip()
-            space = ' xml:space="preserve"' if stripped and stripped != value else ""
+            space = ""
+            if value[0].isspace() or value[-1].isspace():
+                stripped = value.strip()
+                space = ' xml:space="preserve"' if stripped and stripped != value else ""
             return f'<c r="{ref}"{s} t="inlineStr"><is><t{space}>{_escape(value)}</t></is></c>'
         if isinstance(value, bool):
             return f'<c r="{ref}"{s} t="b"><v>{int(value)}</v></c>'
         if isinstance(value, self._numbers):
-            if isnan(value) or isinf(value):  # openpyxl's safe_string: no number
+            if isnan(value) or isinf(value):
                 return f'<c r="{ref}"{s} t="n"><v /></c>'
             return f'<c r="{ref}"{s} t="n"><v>{"%.16g" % value}</v></c>'
         raise TypeError(f"cannot write {value!r} ({type(value).__name__}) to a workbook cell")

@@ -449,7 +449,7 @@ class _StyleMaker:
         from loopdocs.sheets.cells import cell_style
         from loopdocs.sheets.sheet_rows import CellStyle
 
-        key = tuple(sorted((name, repr(value)) for name, value in attrs.items()))
+        key = tuple(sorted(attrs.items()))  # openpyxl style objects hash and compare by their settings
         if key not in self._made:
             self._made[key] = CellStyle(cell_style(self._ws, **attrs))
         return self._made[key]
