@@ -3,9 +3,10 @@
 For each size (default 1,000 and 10,000 loops) a generated index
 (``benchmarks/make_index.py``, seed 0) is checked and tabulated, then the workbook is
 written; each size runs in its own process so that its peak resident memory is its own.
-Prints, per size: seconds to check and tabulate, seconds to write the workbook, peak RSS
-before and after the write (MB, ``resource.getrusage`` ``ru_maxrss``, kB on Linux), and
-the workbook's size.
+Prints, per size: seconds to check and tabulate, seconds to write the workbook (wall
+clock, and the process's CPU seconds, which a shared machine's load does not stretch),
+peak RSS before and after the write (MB, ``resource.getrusage`` ``ru_maxrss``, kB on
+Linux), the workbook's size, and the load average when the size was done.
 
 Run: ``python benchmarks/bench_workbook.py [N_LOOPS ...]``.
 """
@@ -13,6 +14,7 @@ Run: ``python benchmarks/bench_workbook.py [N_LOOPS ...]``.
 from __future__ import annotations
 
 import json
+import os
 import resource
 import subprocess
 import sys
@@ -46,17 +48,21 @@ def one_size(n_loops: int, folder: Path) -> dict:
     tabulated = time.perf_counter()
     peak_before = _peak_mb()
     out = folder / f"cal-{n_loops}.xlsx"
+    cpu = time.process_time()
     counts = write_workbook(cset, out)
     written = time.perf_counter()
+    cpu = time.process_time() - cpu
     return {
         "loops": n_loops,
         "tables": len(cset.tables),
         "test_points": sum(counts.values()),
         "check_and_tabulate_s": round(tabulated - started, 2),
         "write_s": round(written - tabulated, 2),
+        "write_cpu_s": round(cpu, 2),
         "peak_rss_before_write_mb": round(peak_before, 1),
         "peak_rss_mb": round(_peak_mb(), 1),
         "workbook_mb": round(out.stat().st_size / 1e6, 2),
+        "load_average": " ".join(f"{x:.2f}" for x in os.getloadavg()),
     }
 
 
@@ -66,14 +72,14 @@ def main(argv: list[str]) -> None:
             print(json.dumps(one_size(int(argv[1]), Path(tmp))))
         return
     sizes = [int(a) for a in argv] or [1000, 10000]
-    print(f"{'loops':>6} {'tables':>7} {'points':>7} {'check+tab s':>12} {'write s':>8} "
-          f"{'RSS before MB':>14} {'peak RSS MB':>12} {'file MB':>8}")
+    print(f"{'loops':>6} {'tables':>7} {'points':>7} {'check+tab s':>12} {'write s':>8} {'write CPU s':>12} "
+          f"{'RSS before MB':>14} {'peak RSS MB':>12} {'file MB':>8}  load average")
     for n in sizes:
         run = subprocess.run([sys.executable, __file__, "--one", str(n)], capture_output=True, text=True, check=True)
         r = json.loads(run.stdout.strip().splitlines()[-1])
         print(f"{r['loops']:>6} {r['tables']:>7} {r['test_points']:>7} {r['check_and_tabulate_s']:>12} "
-              f"{r['write_s']:>8} {r['peak_rss_before_write_mb']:>14} {r['peak_rss_mb']:>12} {r['workbook_mb']:>8}",
-              flush=True)
+              f"{r['write_s']:>8} {r['write_cpu_s']:>12} {r['peak_rss_before_write_mb']:>14} {r['peak_rss_mb']:>12} "
+              f"{r['workbook_mb']:>8}  {r['load_average']}", flush=True)
 
 
 if __name__ == "__main__":

@@ -405,21 +405,13 @@ def _fill_workbook(cset: CalibrationSet, wb: Any, sheet_per: str) -> dict[str, i
 
 def _release_written(ws: Any) -> None:
     """Drop what a closed write-only sheet has written already (merges, validations,
-    conditional formats, column and row settings, panes, protection, page setup): saving
-    the workbook needs only its name, state, print titles and area, and its written part
-    (openpyxl's ExcelWriter and WorkbookWriter); 10,000 sheets held them as hundreds of
-    megabytes."""
-    from openpyxl.formatting.formatting import ConditionalFormattingList
-    from openpyxl.worksheet.cell_range import MultiCellRange
-    from openpyxl.worksheet.datavalidation import DataValidationList
-
-    ws.merged_cells = MultiCellRange()
-    ws.data_validations = DataValidationList()
-    ws.conditional_formatting = ConditionalFormattingList()
-    ws.column_dimensions.clear()
-    ws.row_dimensions.clear()
-    for written in ("HeaderFooter", "page_setup", "page_margins", "print_options", "views", "protection",
-                    "sheet_properties", "sheet_format"):
+    conditional formats, column and row settings, panes, protection, page setup, local
+    names): saving the workbook reads only its name, state, print titles and area, and its
+    written part (openpyxl's ExcelWriter and WorkbookWriter); 10,000 sheets held them as
+    hundreds of megabytes."""
+    for written in ("merged_cells", "data_validations", "conditional_formatting", "column_dimensions",
+                    "row_dimensions", "HeaderFooter", "page_setup", "page_margins", "print_options", "views",
+                    "protection", "sheet_properties", "sheet_format", "defined_names", "scenarios"):
         setattr(ws, written, None)
 
 
