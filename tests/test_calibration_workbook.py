@@ -220,7 +220,8 @@ def _both_ways(tmp_path: Path, rows: list[list]) -> tuple[Path, Path]:
 
 def test_rows_as_text_are_the_bytes_openpyxl_writes(tmp_path):
     # reference: openpyxl 3.1's own write-only cell writer (openpyxl.cell._writer), SpreadsheetML
-    # rows and cells of ECMA-376 Part 1 §18.3.1.73 (row), §18.3.1.4 (c), §18.3.1.53 (is)
+    # rows and cells of ECMA-376 Part 1 §18.3.1.73 (row), §18.3.1.4 (c), §18.3.1.53 (is) (clause numbers
+    # from memory)
     import zipfile
 
     from openpyxl.styles import Alignment, Border, Font, PatternFill, Protection, Side

@@ -37,47 +37,12 @@ def keep_as_text(workbook: Any) -> int:
 
 def cell_style(ws: Any, **style: Any) -> Any:
     """The style of a cell with ``style`` (font, fill, border, alignment, protection,
-    number_format), made once and given to :func:`streamed_cell` for many cells: openpyxl
-    looks each style object up in the workbook's tables when it is set, which costs more
-    than writing the cell."""
+    number_format), made once for many cells (``loopdocs.sheets.sheet_rows.CellStyle``):
+    openpyxl looks each style object up in the workbook's tables when it is set, which
+    costs more than writing the cell."""
     from openpyxl.cell import WriteOnlyCell
 
     prototype = WriteOnlyCell(ws)
     for name, setting in style.items():
         setattr(prototype, name, setting)
     return prototype._style
-
-
-def streamed_cell(ws: Any, value: Any = None, style: Any = None, **attrs: Any) -> Any:
-    """A cell for a streaming (write-only) openpyxl sheet holding ``value`` as it shows:
-    text that a spreadsheet program could read as a formula is stored as text (as
-    :func:`keep_as_text` does for a whole workbook). ``style`` is a :func:`cell_style`;
-    ``attrs`` set font, fill, border, alignment, protection, number_format one by one.
-
-    >>> from openpyxl import Workbook
-    >>> ws = Workbook(write_only=True).create_sheet()
-    >>> streamed_cell(ws, "=1+1").data_type, streamed_cell(ws, 5).data_type
-    ('s', 'n')
-    >>> bold = cell_style(ws, number_format="0.00")
-    >>> streamed_cell(ws, 2.5, bold).number_format
-    '0.00'
-    """
-    from copy import copy
-
-    from openpyxl.cell import WriteOnlyCell
-
-    cell = WriteOnlyCell(ws, value)
-    if cell.data_type == "f" or (isinstance(value, str) and value.startswith(FORMULA_STARTS)):
-        cell.data_type = "s"
-    if style is not None:
-        cell._style = copy(style)
-    for name, setting in attrs.items():
-        setattr(cell, name, setting)
-    return cell
-
-
-def streamed_values(ws: Any, values: list[Any]) -> list[Any]:
-    """``values`` for ``ws.append`` on a streaming sheet: plain values as they are, text that
-    could be read as a formula as a text cell (:func:`streamed_cell`)."""
-    return [streamed_cell(ws, v) if isinstance(v, str) and v.startswith(FORMULA_STARTS) else v
-            for v in values]

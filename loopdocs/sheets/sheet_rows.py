@@ -8,15 +8,16 @@ and ``t``, §18.3.1.53 ``is`` and §18.4.12 ``t`` for inline text, §18.3.1.96 `
 
     <row r="12"><c r="A12" s="13" t="inlineStr"><is><t>TE-1/02</t></is></c><c r="D12" s="14" t="n"><v>25</v></c></row>
 
-Everything else of the sheet (properties, panes, columns, merges, protection,
-validations, conditional formats, page setup) and of the package (styles, workbook,
-defined names) is still written by openpyxl. Cell styles are openpyxl ``StyleArray``
+Merged ranges are kept as text too (:meth:`RowWriter.merge`). Everything else of the
+sheet (properties, panes, columns, protection, validations, conditional formats, page
+setup) and of the package (styles, workbook, defined names) is still written by openpyxl. Cell styles are openpyxl ``StyleArray``
 objects (:func:`loopdocs.sheets.cells.cell_style`) numbered in the workbook's style table
 at their first use, as openpyxl numbers them. Values are bound as openpyxl binds them
 (``openpyxl.cell.cell.Cell._bind_value``): text longer than 32,767 characters is cut,
 characters XML forbids are refused (``IllegalCharacterError``), an error code such as
 ``#N/A`` is an error cell; text is always written as text, never as a formula (the OWASP
-formula-injection guidance, as :func:`loopdocs.sheets.cells.streamed_cell`).
+formula-injection guidance, as :func:`loopdocs.sheets.cells.keep_as_text` does for a
+whole workbook).
 """
 
 from __future__ import annotations
