@@ -520,3 +520,28 @@ def test_rows_nest_beside_what_hangs_below_the_row_above(example):
         assert crossing_problems(layout) == [], loop_id
     # on the example, the split loop whose switch row nests is more than 10 mm shorter
     assert saved["L-2101"] > 10.0
+
+
+def test_series_link_runs_clear_of_a_screen_earth_label(tmp_path):
+    # Found by test_random_loops_have_no_overlaps_or_crossings: two positioners in series
+    # on one output (ISA-5.4 loop diagram: each wired as built), the first cable's screen
+    # earthed in the cabinet (Shield = cabinet). The link between the two cabinet
+    # terminals ran down through the "screen" label hung below the first terminal; nothing
+    # on a drawing may cross a text (common practice).
+    valve = {"location": "field", "platform": "device", "air_action": "ATO", "fail_position": "FC",
+             "driven_by": "TIC-710", "service": "mash", "signal": "4-20 mA", "split_method": "positioner",
+             "cabinet": "CAB9"}
+    rows = [
+        {"tag": "TIC-710", "location": "control room", "platform": "dcs", "signal": "4-20 mA",
+         "control_action": "reverse", "io_address": "CAB9-R3-S01-CH03"},
+        {"tag": "TV-710A", **valve, "co_start_pct": 0.0, "co_end_pct": 50.0, "cores": "1+ 2- S", "shield": "cabinet"},
+        {"tag": "TV-710B", **valve, "co_start_pct": 50.0, "co_end_pct": 100.0},
+    ]
+    project, _ = load_project(write_csv(tmp_path / "index.csv", rows))
+    layout = layout_loop(project, "T-710")
+    assert any(t.role == "screen" for t in layout.texts)
+    link = next(line for line in layout.lines if line.role == "series-link")
+    screen = next(t.box for t in layout.texts if t.role == "screen")
+    assert min(x for x, _ in link.points[1:3]) > screen.right  # the link's vertical run is right of the label
+    assert overlap_problems(layout) == []
+    assert crossing_problems(layout) == []

@@ -543,7 +543,10 @@ def _series_xs(rows: list[Row], root: int, cols: _Columns) -> tuple[list[float],
     lasts = [head.stations[m - 1]] + [rows[i].stations[-1] for i in head.series]
     if all(isinstance(s, TerminalStation) and s.enclosure for s in lasts):
         # the link is made in the box the terminals are in: just right of the terminals
-        base = max(cols.ref[s.column] + s.drawn.joint_out[0] for s in lasts) + 0.9
+        # and of a screen's earth label hung below one of them (the link runs down past it)
+        rights = [cols.ref[s.column] + s.drawn.joint_out[0] for s in lasts]
+        rights += [cols.ref[s.column] + t.box.right for s in lasts for t in s.drawn.drawing.texts if t.role == "screen"]
+        base = max(rights) + 0.9
     else:
         base = ret - 3.0
     return [base + (k % 2) * 1.5 for k in range(len(head.series))], ret
