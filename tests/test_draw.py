@@ -545,3 +545,44 @@ def test_series_link_runs_clear_of_a_screen_earth_label(tmp_path):
     assert min(x for x, _ in link.points[1:3]) > screen.right  # the link's vertical run is right of the label
     assert overlap_problems(layout) == []
     assert crossing_problems(layout) == []
+
+
+def test_a_row_below_stays_clear_of_an_orifice_impulse_line(tmp_path):
+    # Found by test_random_loops_have_no_overlaps_or_crossings: a DP flow transmitter
+    # over an orifice (ISA-5.1 flow element with impulse lines to the transmitter) and a
+    # second transmitter in the row below. The row below rose beside the orifice and its
+    # range text sat on the low-pressure impulse line; nothing on a drawing may cross a
+    # text (common practice).
+    ft = {"location": "field", "platform": "device", "signal": "4-20 mA", "range_low": 0, "range_high": 100,
+          "units": "%", "service": "mash"}
+    rows = [{"tag": "FT-710A", **ft},
+            {"tag": "FE-710A", "location": "field", "platform": "device", "signal": "none", "service": "mash"},
+            {"tag": "FT-710B", **ft}]
+    project, _ = load_project(write_csv(tmp_path / "index.csv", rows))
+    layout = layout_loop(project, "F-710")
+    impulse = [line for line in layout.lines if line.role == "impulse"]
+    assert impulse
+    assert overlap_problems(layout) == []
+    assert crossing_problems(layout) == []
+
+
+def test_a_row_below_a_cabinet_stays_under_its_whole_outline(tmp_path):
+    # Found by test_random_loops_have_no_overlaps_or_crossings: a cabinet whose outline
+    # runs across its barrier column because one row has an IS barrier (ISA-5.4 loop
+    # diagram: the cabinet drawn as one enclosure) and a rack-room transmitter in the row
+    # below, in the barrier column. The transmitter's row rose beside the second row's
+    # terminals and its range text sat on the outline's bottom edge; nothing on a drawing
+    # may cross a text (common practice).
+    valve = {"location": "field", "platform": "device", "air_action": "ATO", "fail_position": "FC",
+             "service": "mash", "signal": "4-20 mA", "split_method": "dcs", "cabinet": "CAB9"}
+    pt = {"platform": "device", "signal": "4-20 mA", "range_low": 0, "range_high": 100, "units": "%", "service": "mash"}
+    rows = [{"tag": "PT-710A", "location": "rack room", **pt},
+            {"tag": "PT-710B", "location": "field", **pt},
+            {"tag": "PV-710A", **valve, "co_start_pct": 0.0, "co_end_pct": 50.0, "barrier": "BR-7 zener",
+             "area_class": "Zone 1 IIC T4"},
+            {"tag": "PV-710B", **valve, "co_start_pct": 50.0, "co_end_pct": 100.0}]
+    project, _ = load_project(write_csv(tmp_path / "index.csv", rows))
+    layout = layout_loop(project, "P-710")
+    assert any(f.role == "enclosure-cabinet" for f in layout.frames)
+    assert overlap_problems(layout) == []
+    assert crossing_problems(layout) == []

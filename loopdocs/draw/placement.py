@@ -44,7 +44,7 @@ from loopdocs.draw.clusters import (
     wrapped,
 )
 from loopdocs.draw.devices import element_cluster, valve_cluster
-from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, THIN_MM, Dot, Drawing, Frame, Path, PlacedText, Rect, SignalLine
+from loopdocs.draw.geometry import LINE_HALF_WIDTH_MM, THIN_MM, Dot, Drawing, Frame, Path, PlacedText, Point, Rect, SignalLine
 from loopdocs.draw.stations import (
     BAND_OF_COLUMN,
     BAND_TITLES,
@@ -432,13 +432,22 @@ def _row_shapes(row: Row, cols: _Columns, half_mm: float) -> list[Rect]:
         box = st.drawn.box
         x0, x1 = cols.ref[st.column] + box.x, cols.ref[st.column] + box.right
         if st.enclosure:
-            x0, x1 = min(x0, cols.left[st.column]), max(x1, cols.right[st.column])
+            # the outline of a cabinet runs across both cabinet columns when a row of the
+            # same cabinet uses the second one (:func:`_enclosures`)
+            spans = [c for c in _ENCLOSURE_COLUMNS.get(st.column, (st.column,)) if c in cols.left]
+            x0 = min(x0, *(cols.left[c] for c in spans))
+            x1 = max(x1, *(cols.right[c] for c in spans))
         shapes.append(Rect(x0, box.y, x1 - x0, box.height))
+    shapes += _impulse_shapes(row, cols)
     if shapes:
         start = min(r.x for r in shapes)
         shapes.append(Rect(start, -half_mm, cols.width - start, 2 * half_mm))
     return shapes
 
+
+_ENCLOSURE_COLUMNS = {"C0": ("C0", "C1"), "C1": ("C0", "C1")}
+"""The columns one enclosure's outline can span (the cabinet's terminals and its
+barriers or cards), by the column of a station in it."""
 
 ROW_CLEAR_MM = 1.5
 """Least horizontal space between what a row draws and what a row above draws beside it."""
@@ -614,18 +623,38 @@ def _free_text(layout: Drawing, text: str, x: float, y0: float, y1: float, ancho
             return
 
 
+def _impulse_path(row: Row, cols: _Columns) -> list[tuple[Point, ...]]:
+    """The low-pressure impulse line of each orifice of a row, from its tap to the bottom
+    of its transmitter, relative to the row line (y = 0): down the tap, across at half
+    height, up into the transmitter."""
+    paths = []
+    for k, st in enumerate(row.stations[:-1]):
+        low = st.drawn.points.get("tap-low")
+        bottom = row.stations[k + 1].drawn.points.get("bottom")
+        if low is None or bottom is None:
+            continue
+        lx, ly = cols.ref[st.column] + low[0], low[1]
+        bx, by = cols.ref[row.stations[k + 1].column] + bottom[0], bottom[1]
+        mid = (ly + by) / 2
+        paths.append(((lx, ly), (lx, mid), (bx, mid), (bx, by)))
+    return paths
+
+
+def _impulse_shapes(row: Row, cols: _Columns) -> list[Rect]:
+    """The boxes of a row's impulse lines (:func:`_impulse_path`), so that no row below
+    rises across them."""
+    shapes = []
+    for path in _impulse_path(row, cols):
+        xs, ys = [x for x, _ in path], [y for _, y in path]
+        shapes.append(Rect(min(xs), min(ys), max(xs) - min(xs), max(ys) - min(ys)))
+    return shapes
+
+
 def _impulse_lines(layout: Drawing, rows: list[Row], cols: _Columns) -> None:
     """The low-pressure impulse line of an orifice, to the bottom of its transmitter."""
     for row in rows:
-        for k, st in enumerate(row.stations[:-1]):
-            low = st.drawn.points.get("tap-low")
-            bottom = row.stations[k + 1].drawn.points.get("bottom")
-            if low is None or bottom is None:
-                continue
-            lx, ly = cols.ref[st.column] + low[0], row.y + low[1]
-            bx, by = cols.ref[row.stations[k + 1].column] + bottom[0], row.y + bottom[1]
-            mid = (ly + by) / 2
-            layout.lines.append(SignalLine("connection", ((lx, ly), (lx, mid), (bx, mid), (bx, by)), "impulse"))
+        for path in _impulse_path(row, cols):
+            layout.lines.append(SignalLine("connection", tuple((x, row.y + y) for x, y in path), "impulse"))
 
 
 def _function_buses(layout: Drawing, rows: list[Row], cols: _Columns, fn_row: int | None) -> None:
