@@ -112,16 +112,23 @@ def _present(
     texts: dict[str, str],
 ) -> dict[str, CellValue]:
     """Key -> value for the non-blank cells among ``wanted`` (blank cells are left out, so
-    ``values.get(key)`` is ``None`` for them). Most index cells are blank: skipping them
+    ``values.get(key)`` is ``None`` for them). A ``convert`` marked ``keeps_text`` turns
+    text into the text stripped (blank -> None): such cells are stripped here directly. Most index cells are blank: skipping them
     early is most of the reader's speed on a large index. A text met before is replaced by
     the one kept in ``texts``: an index repeats the same units, signals, cabinets and
     P&IDs on thousands of rows, and one copy of each halves the memory the rows take."""
     width = len(cells)
     present: dict[str, CellValue] = {}
+    keeps_text = getattr(convert, "keeps_text", False)
     for key, index in wanted:
         if index < width:
             raw = cells[index]
             if raw is not None and raw != "":
+                if keeps_text and type(raw) is str:  # the usual cell: text, stripped, no call
+                    value = raw.strip()
+                    if value:
+                        present[key] = texts.setdefault(value, value)
+                    continue
                 value = convert(raw)
                 if value is not None:
                     present[key] = texts.setdefault(value, value) if type(value) is str else value

@@ -69,6 +69,9 @@ def cell_value(value: Any) -> CellValue:
     return str(value).strip() or None
 
 
+cell_value.keeps_text = True  # type: ignore[attr-defined]  # text: stripped, blank -> None (read.grid)
+
+
 def _to_second(value: dt.datetime) -> dt.datetime:
     """Nearest whole second (spreadsheet times are day fractions and rarely land exactly)."""
     return (value + dt.timedelta(microseconds=500_000)).replace(microsecond=0)
