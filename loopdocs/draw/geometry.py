@@ -362,3 +362,20 @@ def overlapping_pairs(rects: Sequence[tuple[str, Rect]], clearance_mm: float = 0
                 found.append((rects[j][0], name_i))
         active.append(i)
     return found
+
+
+def polyline_boxes(points: Sequence[Point], half_mm: float, step_mm: float = 0.8) -> list[Rect]:
+    """Small squares (``2 * half_mm`` a side, one every ``step_mm`` or closer) along a
+    polyline, so that texts and marks can keep clear of sloping lines too, not only of
+    their bounding boxes.
+
+    >>> [(b.x, b.y) for b in polyline_boxes([(0.0, 0.0), (1.0, 0.0)], 0.5, 1.0)]
+    [(-0.5, -0.5), (0.5, -0.5)]
+    """
+    boxes = []
+    for (x0, y0), (x1, y1) in zip(points, points[1:]):
+        n = max(1, int(math.hypot(x1 - x0, y1 - y0) / step_mm))
+        for i in range(n + 1):
+            f = i / n
+            boxes.append(Rect(x0 + f * (x1 - x0) - half_mm, y0 + f * (y1 - y0) - half_mm, 2 * half_mm, 2 * half_mm))
+    return boxes

@@ -38,6 +38,7 @@ from loopdocs.draw.geometry import (
     PlacedText,
     Point,
     Rect,
+    polyline_boxes,
 )
 from loopdocs.core.findings import Finding, Severity
 from loopdocs.draw.text import ASCENT_EM, CAP_HEIGHT_EM, DESCENT_EM, text_width_mm, wrap_text
@@ -277,15 +278,8 @@ def _txt(text: str, x: float, y: float, anchor: str = "start", role: str = "labe
     return PlacedText(text, x, y, size, anchor, bold, role, owner, None, rotate)
 
 
-def _curve_boxes(points_mm: Sequence[Point], step_mm: float = 0.8, half_mm: float = 0.45) -> list[Rect]:
-    """Small boxes along a polyline, so texts keep off sloping lines too."""
-    boxes = []
-    for (x0, y0), (x1, y1) in zip(points_mm, points_mm[1:]):
-        n = max(1, int(math.hypot(x1 - x0, y1 - y0) / step_mm))
-        for i in range(n + 1):
-            f = i / n
-            boxes.append(Rect(x0 + f * (x1 - x0) - half_mm, y0 + f * (y1 - y0) - half_mm, 2 * half_mm, 2 * half_mm))
-    return boxes
+CURVE_CLEAR_MM = 0.45
+"""Half-width of the boxes sampled along a travel curve: a label keeps this clear of it."""
 
 
 # --------------------------------------------------------------------------- chart
@@ -491,7 +485,7 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = (), width_mm: 
         mm = [(chart.x_of(co), chart.y_of(t)) for co, t in points]
         chart.paths.append(Path(tuple(mm), WIDE_MM if source == "settings" else MEDIUM_MM,
                                 dash_mm=ELEMENT_DASHES[index % len(ELEMENT_DASHES)], role=f"curve:{element.tag}"))
-        obstacles += _curve_boxes(mm)
+        obstacles += polyline_boxes(mm, CURVE_CLEAR_MM)
         drawn.append(element)
         error = element.travel_error[0] if element.travel_error else 0.0
         if source == "settings" and error > TOLERANCE_PCT:
@@ -499,9 +493,9 @@ def chart_layout(group: SplitGroup, findings: Sequence[Finding] = (), width_mm: 
             if intent:
                 imm = [(chart.x_of(co), chart.y_of(t)) for co, t in intent]
                 chart.paths.append(Path(tuple(imm), THIN_MM, dash_mm=(0.8, 0.8), role=f"intent:{element.tag}"))
-                obstacles += _curve_boxes(imm)
+                obstacles += polyline_boxes(imm, CURVE_CLEAR_MM)
                 intents.append((element, imm))
-    obstacles += _curve_boxes(cv_points_mm) if cv_points_mm else []
+    obstacles += polyline_boxes(cv_points_mm, CURVE_CLEAR_MM) if cv_points_mm else []
     for box in obstacles:
         placer.take(box)
 

@@ -31,7 +31,7 @@ from dataclasses import dataclass
 from xml.sax.saxutils import escape, quoteattr
 
 from loopdocs.draw.clusters import TEXT_MM
-from loopdocs.draw.geometry import MEDIUM_MM, Drawing, PlacedSymbol, PlacedText, Rect
+from loopdocs.draw.geometry import MEDIUM_MM, Drawing, PlacedSymbol, PlacedText, Rect, polyline_boxes
 from loopdocs.draw.symbols import Symbol, fmt_mm
 from loopdocs.draw.text import CAP_HEIGHT_EM, text_width_mm
 
@@ -244,17 +244,6 @@ def mark_diagram(layout: Drawing, marks: RevisionMarks | None) -> dict[str, Plac
     return placed
 
 
-def _sampled(points: Sequence[tuple[float, float]], half_mm: float, step_mm: float = 0.8) -> list[Rect]:
-    """Small boxes along a polyline, so a mark may stand near a sloping line."""
-    boxes = []
-    for (x0, y0), (x1, y1) in zip(points, points[1:]):
-        n = max(1, int(math.hypot(x1 - x0, y1 - y0) / step_mm))
-        for i in range(n + 1):
-            f = i / n
-            boxes.append(Rect(x0 + f * (x1 - x0) - half_mm, y0 + f * (y1 - y0) - half_mm, 2 * half_mm, 2 * half_mm))
-    return boxes
-
-
 def chart_obstacles(chart: Drawing) -> list[Rect]:
     """What a mark must keep off on a range chart: every text and every stroked line
     other than the pale grid."""
@@ -263,7 +252,7 @@ def chart_obstacles(chart: Drawing) -> list[Rect]:
         if path.stroke_mm is None or path.role == "grid":
             continue
         points = list(path.points) + ([path.points[0]] if path.closed else [])
-        boxes += _sampled(points, max(path.stroke_mm / 2, 0.3))
+        boxes += polyline_boxes(points, max(path.stroke_mm / 2, 0.3))
     return boxes
 
 
