@@ -237,11 +237,8 @@ def title_block(n_loops: int, seed: int) -> list[list[Any]]:
     ]
 
 
-def write_index(path: Path, n_loops: int, seed: int = 0) -> Path:
-    """Write the generated index to ``path`` (.xlsx or .csv) and return the path."""
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    rows = [*title_block(n_loops, seed), HEADERS, *generate_rows(n_loops, seed)]
+def _write_rows(path: Path, rows: list[list[Any]], sheet_name: str) -> Path:
+    """Write ``rows`` to ``path``: a .csv file, or an .xlsx workbook with one sheet."""
     if path.suffix.lower() == ".csv":
         with path.open("w", newline="", encoding="utf-8") as handle:
             writer = csv.writer(handle)
@@ -251,11 +248,19 @@ def write_index(path: Path, n_loops: int, seed: int = 0) -> Path:
     from openpyxl import Workbook
 
     book = Workbook(write_only=True)
-    sheet = book.create_sheet("Index")
+    sheet = book.create_sheet(sheet_name)
     for row in rows:
         sheet.append(row)
     book.save(path)
     return path
+
+
+def write_index(path: Path, n_loops: int, seed: int = 0) -> Path:
+    """Write the generated index to ``path`` (.xlsx or .csv) and return the path."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    rows = [*title_block(n_loops, seed), HEADERS, *generate_rows(n_loops, seed)]
+    return _write_rows(path, rows, "Index")
 
 
 def _as_text(value: Any) -> Any:
@@ -290,20 +295,7 @@ def write_index_variant(path: Path, n_loops: int, seed: int = 0) -> Path:
     ]
     for row in generate_rows(n_loops, seed):
         rows.append([_as_text(row[i]) for i in order])
-    if path.suffix.lower() == ".csv":
-        with path.open("w", newline="", encoding="utf-8") as handle:
-            writer = csv.writer(handle)
-            for row in rows:
-                writer.writerow(["" if v is None else v for v in row])
-        return path
-    from openpyxl import Workbook
-
-    book = Workbook(write_only=True)
-    sheet = book.create_sheet("Instruments")
-    for row in rows:
-        sheet.append(row)
-    book.save(path)
-    return path
+    return _write_rows(path, rows, "Instruments")
 
 
 if __name__ == "__main__":
