@@ -33,11 +33,12 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator
+from pydantic import BaseModel, ConfigDict, Field, field_validator
 
 from loopdocs.core.errors import InputError
 from loopdocs.model.changes import cell_changes, plain_cells
 from loopdocs.model.records import Project
+from loopdocs.read.project_file import validated
 
 STATE_NAME = "loopdocs-revisions.toml"
 FIRST_ISSUE = "First issue"
@@ -88,12 +89,7 @@ class RevisionScheme(BaseModel):
 
 def revision_scheme(table: dict[str, Any], config_file: Path | str | None = None) -> RevisionScheme:
     """Validate the ``[revisions]`` table; ``InputError`` names the file and the key."""
-    try:
-        return RevisionScheme.model_validate(table)
-    except ValidationError as exc:
-        first = exc.errors()[0]
-        where = ".".join(["revisions", *(str(part) for part in first["loc"])])
-        raise InputError(f"{config_file or 'loopdocs.toml'}: [{where}] {first['msg']}") from None
+    return validated(RevisionScheme, table, config_file, "revisions")
 
 
 def next_revision(rev: str) -> str:

@@ -11,7 +11,7 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
-from typing import Any, Literal
+from typing import Any, Literal, TypeVar
 
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator
 
@@ -132,14 +132,24 @@ class SheetSettings(BaseModel):
         return next((reason for loop, reason in self.release_with_errors.items() if loop.upper() == wanted), None)
 
 
-def sheet_settings(table: dict[str, Any], config_file: Path | str | None = None) -> SheetSettings:
-    """Validate the ``[sheet]`` table; ``InputError`` names the file and the key."""
+ModelT = TypeVar("ModelT", bound=BaseModel)
+
+
+def validated(model: type[ModelT], data: Any, config_file: Path | str | None = None, table: str = "") -> ModelT:
+    """``model`` validated from ``data`` (a table of ``loopdocs.toml``, or the whole file
+    when ``table`` is empty); ``InputError`` names the file and the first key at fault,
+    for example ``loopdocs.toml: [sheet.size] Input should be 'A3', 'A4' or '11x17'``."""
     try:
-        return SheetSettings.model_validate(table)
+        return model.model_validate(data)
     except ValidationError as exc:
         first = exc.errors()[0]
-        where = ".".join(["sheet", *(str(part) for part in first["loc"])])
+        where = ".".join([*([table] if table else []), *(str(part) for part in first["loc"])])
         raise InputError(f"{config_file or 'loopdocs.toml'}: [{where}] {first['msg']}") from None
+
+
+def sheet_settings(table: dict[str, Any], config_file: Path | str | None = None) -> SheetSettings:
+    """Validate the ``[sheet]`` table; ``InputError`` names the file and the key."""
+    return validated(SheetSettings, table, config_file, "sheet")
 
 
 class ProjectConfig(BaseModel):
@@ -179,12 +189,7 @@ def load_config(path: Path) -> ProjectConfig:
         raise InputError(f"{path}: not valid TOML ({exc})") from None
     except RecursionError:
         raise InputError(f"{path}: nested too deeply to be a loopdocs project file") from None
-    try:
-        config = ProjectConfig.model_validate(data)
-    except ValidationError as exc:
-        first = exc.errors()[0]
-        where = ".".join(str(part) for part in first["loc"])
-        raise InputError(f"{path}: [{where}] {first['msg']}") from None
+    config = validated(ProjectConfig, data, path)
     sheet_settings(config.sheet, path)  # a [sheet] mistake is one line for every command, check too
     return config
 
