@@ -286,6 +286,29 @@ def test_groups_and_findings_do_not_depend_on_row_order(rows, rnd):
     assert _view(_project(rows)) == _view(_project(shuffled))
 
 
+
+@hyp_settings(max_examples=60, deadline=None)
+@given(split_rows())
+def test_loop_check_notes_use_the_groups_exact_travel_error(rows):
+    # The loop-check tables of a project take the split group's travel error (worked out at
+    # the breakpoints of the two piecewise-linear curves, docs/design.md §4.4) instead of
+    # searching a 0.1 % CO grid again: every table must come out as the grid search gives it,
+    # the "settings do not realise this intent" note included (random settings, most wrong).
+    from loopdocs.calc.tables import loop_check_table
+    from loopdocs.calibration.project_tables import calibration_set
+
+    project = _project(rows)
+    elements = {e.tag: (g, e) for g in build_groups(project) for e in g.elements}
+    checks = [t for t in calibration_set(project).tables if t.kind == "loop check"]
+    for table in checks:
+        group, element = elements[table.tag]
+        scaling = element.required_dcs_scaling if element.method == "dcs" else None
+        edges = [v for e in group.elements if e.intent is not None for v in (e.co_start_pct, e.co_end_pct)]
+        searched = loop_check_table(element.tag, element.intent, element.settings, scaling,
+                                    element.record.accuracy_pct, edges_pct=edges)
+        assert table.notes[:len(searched.notes)] == searched.notes
+        assert table.points == searched.points
+
 def test_row_order_on_real_workbooks(index_files):
     rows = [CTRL, _valve("TV-101A", air_action="ATC", fail_position="FO", effect="lowers", co_end_pct=50,
                          travel_start_pct=100, travel_end_pct=0, input_low=4, input_high=12, split_method="positioner"),

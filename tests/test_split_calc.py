@@ -197,6 +197,35 @@ def test_required_settings_realise_the_intent(intent, case, air, positioner):
         assert realised_travel_pct(s, co, scaling) == pytest.approx(intended_travel_pct(intent, co), abs=1e-6)
 
 
+
+@hyp_settings(max_examples=400, deadline=None)
+@given(
+    realisable_intents(),
+    st.sampled_from(CASES),
+    st.sampled_from(AIRS),
+    st.sampled_from(POSITIONERS),
+    st.floats(min_value=-0.5, max_value=1.5),
+    st.floats(min_value=-0.5, max_value=1.5),
+    st.floats(min_value=-50, max_value=150),
+    st.floats(min_value=-50, max_value=150),
+)
+def test_breakpoints_alone_find_the_largest_travel_error(intent, case, air, positioner, u_low, u_high, co0, co100):
+    # Both travel curves are piecewise linear in CO (docs/design.md §4.1 and §4.4), so the
+    # largest |realised - intended| lies on a breakpoint: the fine 0.1 % CO grid finds no
+    # larger error and no earlier CO. The split group's figure (breakpoints only) is what
+    # the loop-check table reports, so the two must agree for settings of any kind, right
+    # or wrong (input range anywhere across and beyond the span, any control-system scaling).
+    method, span = case
+    if abs(u_high - u_low) < 0.01 or abs(co100 - co0) < 1.0:
+        return
+    low, high = span.low + u_low * span.width, span.low + u_high * span.width
+    scaling = DcsScaling(co0, co100) if method == "dcs" else None
+    s = Settings(method, air, positioner, low, high, span)
+    exact = max_travel_error(intent, s, scaling, grid_step_pct=100.0)
+    gridded = max_travel_error(intent, s, scaling)
+    assert exact[0] == pytest.approx(gridded[0], abs=1e-9)
+    assert exact[1] == pytest.approx(gridded[1], abs=1e-9)
+
 # ---------------------------------------------------------------- failure positions
 
 

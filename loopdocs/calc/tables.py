@@ -736,15 +736,17 @@ def loop_check_table(
     accuracy_pct: float | None = None,
     step_pct: float = LOOP_CHECK_STEP_PCT,
     edges_pct: Sequence[float] = (),
+    travel_error: tuple[float, float] | None = None,
 ) -> CalibrationTable:
     """Expected travel of one element of a split group at every ``step_pct`` of CO and at
     every edge in ``edges_pct`` (:func:`loop_check_points_pct`), rising then falling.
 
     Expected travel is the intent (``split.intended_travel_pct``); with ``settings`` the
     signal at the element is shown at each point, and a note is added when the settings
-    do not realise the intent within 1 % of travel (``split.max_travel_error``). Give every
-    element of a group the same ``edges_pct`` (the CO starts and ends of all of them), so
-    its loop check lands on its neighbours' edges too.
+    do not realise the intent within 1 % of travel (``split.max_travel_error``, or
+    ``travel_error`` when it is already known: the split group's ``(travel %, CO %)``).
+    Give every element of a group the same ``edges_pct`` (the CO starts and ends of all
+    of them), so its loop check lands on its neighbours' edges too.
 
     >>> t = loop_check_table("TV-1", Intent(52, 100, 0, 100))
     >>> [round(p.output.value, 2) for p in t.points[5:8]]  # CO 50, 60, 70 %
@@ -770,7 +772,7 @@ def loop_check_table(
         "set the controller output in manual; the signal is what the element should receive",
     ]
     if settings is not None:
-        err, at_co = max_travel_error(intent, settings, dcs_scaling)
+        err, at_co = travel_error if travel_error is not None else max_travel_error(intent, settings, dcs_scaling)
         if err > TRAVEL_TOLERANCE_PCT:
             notes.append(
                 f"the settings do not realise this intent: {err:.1f} % travel off at CO {at_co:g} % "

@@ -445,7 +445,7 @@ def _loop_check_for(group: Any, element: Any) -> CalibrationTable:
     scaling = element.required_dcs_scaling if element.method == "dcs" else None
     edges = [v for e in group.elements if e.intent is not None for v in (e.co_start_pct, e.co_end_pct)]
     table = loop_check_table(element.tag, element.intent, element.settings, scaling, record.accuracy_pct,
-                             edges_pct=edges)
+                             edges_pct=edges, travel_error=element.travel_error)
     notes = [f"{group.mode} split driven by {group.controller} ({element.method})"]
     if element.intent_source == "settings":
         notes.append("travel not stated in the index: expected travel taken from the positioner settings")
