@@ -82,7 +82,7 @@ def test_a_parse_started_before_the_command_line_is_taken_over_by_the_read(tmp_p
             ["PT-4120", None, "Brite tank", "4-20 mA", -1, 6, "barg"]]
     path = _workbook(tmp_path / "index.xlsx", rows)
     other = _workbook(tmp_path / "other.xlsx", rows[:2])
-    background.parse_ahead(str(other))  # for another file: dropped, the index parsed itself
+    background.parse_ahead(str(other))  # for another file: waits for its own claim (diff's two workbooks)
     background.parse_ahead(str(path))
     made: list[Path] = []
     original = background._FirstSheet.__init__
@@ -94,9 +94,12 @@ def test_a_parse_started_before_the_command_line_is_taken_over_by_the_read(tmp_p
     background._FirstSheet.__init__ = counting
     try:
         _, _, table = background.start_reading(path).result()
+        assert [ahead.path for ahead in background._STARTED] == [other]
+        _, _, other_table = background.start_reading(other).result()
     finally:
         background._FirstSheet.__init__ = original
     assert made == [] and background._STARTED == []
+    assert [row.values["tag"] for row in other_table.rows] == ["TT-3105"]
     expected = [list(r) for r in load_workbook(path, read_only=True).active.iter_rows(min_row=2, values_only=True)]
     got = [[row.values.get(k) for k in ("tag", "loop", "service", "signal", "range_low", "range_high", "units")]
            for row in table.rows]
@@ -140,3 +143,27 @@ def test_valves_of_one_set_up_share_their_working_but_keep_their_own_record(tmp_
     assert elements["TV-3105A"][1].required_input_range == (4.0, 12.0)
     assert elements["TV-3106B"][1].required_input_range == (12.0, 20.0)
     assert str(elements["TV-3104"][1].co_start_pct) == "0.0" and str(elements["TV-3107"][1].co_start_pct) == "-0.0"
+
+
+def test_diff_parses_both_workbooks_ahead_and_reads_them_whole(tmp_path: Path):
+    # ``loopdocs diff OLD NEW``: both workbooks start parsing before the command line is
+    # taken; the comparison reads each from its own parse. The cells against openpyxl.
+    from openpyxl import load_workbook
+
+    from loopdocs.cli import _parse_index_ahead
+    from loopdocs.read import background
+
+    rows = [HEADER[:7], ["TT-3105", "T-3105", "Fermenter 5", "4-20 mA", 0, 40, "degC"]]
+    old = _workbook(tmp_path / "old.xlsx", rows)
+    new = _workbook(tmp_path / "new.xlsx", rows + [["PT-4120", None, "Brite tank", "4-20 mA", -1, 6, "barg"]])
+    _parse_index_ahead(["diff", str(old), str(new), "--format", "json"])
+    assert sorted(ahead.path for ahead in background._STARTED) == sorted([old, new])
+    tables = [background.start_reading(p).result(scan_formulas=False)[2] for p in (old, new)]
+    assert background._STARTED == []
+    for path, table in zip((old, new), tables):
+        expected = [list(r) for r in load_workbook(path, read_only=True).active.iter_rows(min_row=2, values_only=True)]
+        got = [[row.values.get(k) for k in ("tag", "loop", "service", "signal", "range_low", "range_high", "units")]
+               for row in table.rows]
+        assert got == expected
+    _parse_index_ahead(["diff", str(old)])  # one workbook where two are taken: nothing started
+    assert background._STARTED == []

@@ -26,16 +26,15 @@ def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text, out: O
 
     Exit code 0 when the two issues do not differ, 1 when they do, 2 when an input could not be read or the report could not be written.
     """
+    import gc
+
+    gc.disable()  # a one-shot command: its records all live to the end (as in ``check``)
     from loopdocs.calibration.table_changes import changed_tables
     from loopdocs.model.changes import compare_projects
-    from loopdocs.model.loading import load_project
-
-    from loopdocs.read.background import start_reading
+    from loopdocs.model.loading import load_pair
 
     try:
-        later = start_reading(new)  # the later workbook parses on a second thread meanwhile
-        before = load_project(old)[0]
-        after = load_project(new, later)[0]
+        before, after = load_pair(old, new)
     except InputError as exc:
         fail_input(exc)
     changes = compare_projects(before, after)

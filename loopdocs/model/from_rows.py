@@ -110,6 +110,19 @@ def _text(value: Any) -> str:
     return str(value).strip()
 
 
+def tag_of_cell(value: Any, upper: bool = True) -> str:
+    """A Tag (or Driven By, ``upper``; or Loop) cell as its record holds it: unprintable
+    characters taken out, stripped, upper-cased (so ``" tv-3105a"`` names ``TV-3105A``).
+
+    >>> tag_of_cell(" tv-3105a "), tag_of_cell(3105.0)
+    ('TV-3105A', '3105')
+    """
+    if isinstance(value, str) and _UNPRINTABLE.search(value):
+        value = _UNPRINTABLE.sub("", value)
+    text = _text(value)
+    return text.upper() if upper else text
+
+
 def _convert_uncached(key: str, value: Any) -> Any:
     if key in VOCAB_COLUMNS:
         return VOCAB_COLUMNS[key].parse(_text(value))
@@ -276,7 +289,7 @@ def build_project(
                 location=at(row.row, "tag"),
             ))
             continue
-        tag_text = _text(raw_tag).upper()
+        tag_text = tag_of_cell(raw_tag)
         try:
             parts = parse_tag(tag_text, pattern)
         except ValueError as exc:

@@ -18,11 +18,15 @@ CSV_SUFFIXES = (".csv",)
 __all__ = ["CellValue", "IndexRow", "IndexTable", "ReadNotice", "read_index"]
 
 
-def read_index(path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None) -> IndexTable:
+def read_index(path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None,
+               scan_formulas: bool = True) -> IndexTable:
     """Read the index at ``path`` (.xlsx, .xlsm or .csv).
 
     ``sheet``: the sheet to read (default: the first with a Tag header in its first 20
     rows). ``column_map``: the project's own headers -> column keys or default headers.
+    ``scan_formulas``: look through a workbook's XML for formulas without a cached value
+    and error cells, to report them (``IndexTable.notices``); a caller that reports no
+    findings (``loopdocs diff``) leaves it out.
     """
     path = Path(path)
     if not path.exists():
@@ -33,7 +37,7 @@ def read_index(path: Path, sheet: str | None = None, column_map: dict[str, str] 
     if suffix in WORKBOOK_SUFFIXES:
         from loopdocs.read.xlsx import read_xlsx
 
-        return read_xlsx(path, sheet, column_map)
+        return read_xlsx(path, sheet, column_map, scan_formulas)
     if suffix in CSV_SUFFIXES:
         from loopdocs.read.csvfile import read_csv
 

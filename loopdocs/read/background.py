@@ -41,18 +41,19 @@ def _guarded(paths: Any, step: Any, *args: Any) -> Any:
         raise InputError(f"{paths.index}: could not be read ({type(exc).__name__}: {exc})") from None
 
 
-def read_table(paths: Any, config: Any, parsed: dict[str, Any] | None = None) -> Any:
+def read_table(paths: Any, config: Any, parsed: dict[str, Any] | None = None, scan_formulas: bool = True) -> Any:
     """The project's index read (an ``IndexTable``); ``parsed``: sheets of its workbook
-    already parsed. ``InputError`` when it cannot be read; any other failure of the
-    reader is turned into one (one line, never a traceback)."""
+    already parsed; ``scan_formulas``: as ``loopdocs.read.read_index``. ``InputError``
+    when it cannot be read; any other failure of the reader is turned into one (one line,
+    never a traceback)."""
     from loopdocs.read import read_index
 
     if parsed and paths.index.suffix.lower() in WORKBOOK_SUFFIXES:
         from loopdocs.read.xlsx import open_sheet, read_open_sheet
 
         opened = _guarded(paths, open_sheet, paths.index, config.index.sheet, config.columns, parsed)
-        return _guarded(paths, read_open_sheet, opened)
-    return _guarded(paths, read_index, paths.index, config.index.sheet, config.columns)
+        return _guarded(paths, read_open_sheet, opened, scan_formulas)
+    return _guarded(paths, read_index, paths.index, config.index.sheet, config.columns, scan_formulas)
 
 
 def read_project(path: Path) -> tuple[Any, Any, Any]:
@@ -91,15 +92,16 @@ class PendingRead:
     def __init__(self, paths: Any, config: Any, ahead: _FirstSheet | None = None) -> None:
         self.paths, self.config, self._ahead = paths, config, ahead
 
-    def result(self) -> tuple[Any, Any, Any]:
-        """``(paths, config, table)``, or the reader's ``InputError``."""
+    def result(self, scan_formulas: bool = True) -> tuple[Any, Any, Any]:
+        """``(paths, config, table)``, or the reader's ``InputError``; ``scan_formulas``:
+        as ``loopdocs.read.read_index``."""
         ahead, self._ahead = self._ahead, None
         parsed: dict[str, Any] = {}
         if ahead is not None:
             parsed = ahead.result()
             if not ahead.path.samefile(self.paths.index):
                 parsed = {}
-        return self.paths, self.config, read_table(self.paths, self.config, parsed)
+        return self.paths, self.config, read_table(self.paths, self.config, parsed, scan_formulas)
 
 
 #: A parse started before the command line was parsed (:func:`parse_ahead`), not yet claimed.
@@ -108,9 +110,10 @@ _STARTED: list[_FirstSheet] = []
 
 def parse_ahead(path: str) -> None:
     """Start parsing the workbook at ``path`` on a second thread before the command line
-    library and the commands are imported (``loopdocs.cli`` for ``check``: 0.03 to 0.05 s
-    sooner); :func:`start_reading` of the same file takes it over. A path that is not a
-    workbook file is left alone (the command reports it as usual)."""
+    library and the commands are imported (``loopdocs.cli`` for ``check`` and ``diff``:
+    0.03 to 0.05 s sooner, and both of ``diff``'s workbooks at once); :func:`start_reading`
+    of the same file takes it over. A path that is not a workbook file is left alone (the
+    command reports it as usual)."""
     candidate = Path(path)
     if candidate.suffix.lower() in WORKBOOK_SUFFIXES and candidate.is_file():
         _STARTED.append(_FirstSheet(candidate))
@@ -118,11 +121,11 @@ def parse_ahead(path: str) -> None:
 
 def _started_for(path: Path) -> _FirstSheet | None:
     """The parse :func:`parse_ahead` started for the file at ``path``, if any (claimed
-    once; any started for another file is dropped)."""
-    started, _STARTED[:] = list(_STARTED), []
-    for ahead in started:
+    once; those started for other files wait for their own claim)."""
+    for ahead in list(_STARTED):
         try:
             if ahead.path.samefile(path):
+                _STARTED.remove(ahead)
                 return ahead
         except OSError:
             pass

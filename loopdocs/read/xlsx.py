@@ -166,9 +166,10 @@ def _check_dimension(path: Path, part: str, head: bytes) -> None:
             "and save again, or raise the limit")
 
 
-def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None) -> IndexTable:
+def read_xlsx(path: Path, sheet: str | None = None, column_map: dict[str, str] | None = None,
+              scan_formulas: bool = True) -> IndexTable:
     """The index in sheet ``sheet`` (default: the first sheet with a Tag header)."""
-    return read_open_sheet(open_sheet(path, sheet, column_map))
+    return read_open_sheet(open_sheet(path, sheet, column_map), scan_formulas)
 
 
 @dataclass
@@ -255,9 +256,10 @@ def parse_first_sheet(path: Path) -> dict[str, Any]:
     return {}
 
 
-def read_open_sheet(opened: OpenSheet) -> IndexTable:
+def read_open_sheet(opened: OpenSheet, scan_formulas: bool = True) -> IndexTable:
     """The index table of an opened sheet. Row by row: the sheet is never held twice (once
-    by calamine, once as Python lists), the peak memory of a large index (docs/performance.md)."""
+    by calamine, once as Python lists), the peak memory of a large index (docs/performance.md).
+    ``scan_formulas``: add the notices of :func:`formula_notices` (``read_index``)."""
     path, name, header_index = opened.path, opened.name, opened.header_index
     rows = data_rows(opened.sheet, header_index, opened.merged)
     table = build_table(path, name, rows, header_index, opened.lookup, cell_value, header=opened.header)
@@ -266,6 +268,8 @@ def read_open_sheet(opened: OpenSheet) -> IndexTable:
     del rows
     if cells > TRIM_AFTER_CELLS:
         return_freed_memory()
+    if not scan_formulas:
+        return table
     letters = set(table.columns.values()) | set(table.extra_columns.values())
     table.notices.extend(
         notice for notice in formula_notices(path, name) if notice.location.row > table.header_row and notice.location.column in letters

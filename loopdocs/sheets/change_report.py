@@ -78,7 +78,7 @@ def write_change_report(path: Path, changes: ProjectChanges, calibration: list[t
 
     rows = wb.create_sheet("Rows")
     keys = [c.key for c in COLUMNS]
-    extra = sorted({h for p in (old, new) for t in p.tags.values() for h in t.extra})
+    extra = sorted(set(old.extra_columns) | set(new.extra_columns))  # every unknown column of either issue
     rows.append([c.header for c in COLUMNS] + extra)
     for cell in rows[1]:
         cell.font = bold
