@@ -58,6 +58,7 @@ print(json.dumps({
     "build_s": result.seconds,
     "rendered": len(result.rendered),
     "reused": len(result.reused),
+    "source": str(Path(__import__("loopdocs").__file__).parent),
     "package_pages": result.package_pages,
     "render_s": sorted(result.render_seconds.values()),
     "main_peak_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024,
@@ -124,9 +125,9 @@ print(json.dumps({"sheets": len(chosen), "worker_s": worker, "alone_s": alone}))
 
 def per_sheet(index: Path, out: Path, count: int, tree: Path = SNAPSHOT) -> dict:
     """Worker CPU per sheet against weasyprint alone on the same HTML (fresh interpreter)."""
-    env = {**os.environ, "PYTHONPATH": str(tree)} if tree.is_dir() else None
+    env, cwd = _tree_env(tree)
     done = subprocess.run([PYTHON, "-c", PER_SHEET, str(index), str(out), str(count)],
-                          capture_output=True, text=True, cwd=ROOT, env=env)
+                          capture_output=True, text=True, cwd=cwd, env=env)
     if done.returncode != 0:
         raise SystemExit(f"per-sheet run failed:\n{done.stderr[-3000:]}")
     figures = json.loads(done.stdout.strip().splitlines()[-1])
@@ -160,13 +161,25 @@ def take_snapshot(source: Path = ROOT, target: Path = SNAPSHOT) -> None:
     shutil.copytree(source / "symbols", target / "symbols")
 
 
+def _tree_env(tree: Path) -> tuple[dict[str, str] | None, Path]:
+    """Environment and working folder of a child that must import ``loopdocs`` from ``tree``.
+    ``python -c`` puts its working folder first on ``sys.path``, ahead of ``PYTHONPATH``:
+    run from the repository, the child would import the working copy, not the snapshot."""
+    if not tree.is_dir():
+        return None, ROOT
+    return {**os.environ, "PYTHONPATH": str(tree)}, tree
+
+
 def run_build(index: Path, out: Path, workers: int, tree: Path = SNAPSHOT) -> dict:
-    env = {**os.environ, "PYTHONPATH": str(tree)} if tree.is_dir() else None
+    env, cwd = _tree_env(tree)
     done = subprocess.run([PYTHON, "-c", CHILD, str(index), str(out), str(workers)],
-                          capture_output=True, text=True, cwd=ROOT, env=env)
+                          capture_output=True, text=True, cwd=cwd, env=env)
     if done.returncode != 0:
         raise SystemExit(f"build failed:\n{done.stderr[-3000:]}")
-    return json.loads(done.stdout.strip().splitlines()[-1])
+    figures = json.loads(done.stdout.strip().splitlines()[-1])
+    if tree.is_dir() and Path(figures["source"]) != (tree / "loopdocs").resolve():
+        raise SystemExit(f"the build ran {figures['source']}, not the snapshot in {tree}")
+    return figures
 
 
 def edited_copy(index: Path, target: Path, nth: int) -> str:
