@@ -63,11 +63,11 @@ def edited_rows(rows: list[list[Any]], n_loops: int, edits: int, seed: int = 0) 
     changed.discard(rows[deleted][tag_at])
     del rows[deleted]
     added = generate_rows(1, seed=10_000 + seed)  # one more loop, numbered past the last
-    loop_at = KEYS.index("loop")
     for row in added:
-        row[tag_at] = f"{row[tag_at].rsplit('-', 1)[0]}-{1001 + n_loops}"
-        if row[loop_at]:
-            row[loop_at] = f"{row[loop_at].rsplit('-', 1)[0]}-{1001 + n_loops}"
+        for key in ("tag", "loop", "driven_by"):
+            at = KEYS.index(key)
+            if row[at]:
+                row[at] = f"{row[at].rsplit('-', 1)[0]}-{1001 + n_loops}"
     return rows + added, changed
 
 

@@ -95,7 +95,7 @@ def test_json_contract_keys(report):
     for change in report["changed"]:
         assert set(change) == {"tag", "loop", "fields"}
         assert all(set(f) == {"column", "old", "new"} for f in change["fields"])
-    assert all(set(s) == {"controller", "what", "old", "new"} for s in report["splits"])
+    assert all(set(s) == {"controller", "loop", "what", "old", "new"} for s in report["splits"])
     assert all(set(c) == {"tag", "kind"} for c in report["calibration"])
 
 
@@ -145,7 +145,7 @@ def test_rename_needs_every_other_cell_equal(index_files):
 def test_air_action_change_changes_the_split_settings(report):
     assert _fields(report, "TV-101B") == {"Air Action": ("ATO", "ATC"), "Fail Position": ("FC", "FO")}
     # ATC with a direct positioner: the opening input runs high to low (common practice)
-    assert {"controller": "TIC-101", "what": "TV-101B required input range",
+    assert {"controller": "TIC-101", "loop": "T-101", "what": "TV-101B required input range",
             "old": "12 to 20 mA", "new": "20 to 12 mA"} in report["splits"]
     assert not [s for s in report["splits"] if s["what"].startswith("TV-101A")]
     assert {"tag": "TV-101B", "kind": "fail action"} in report["calibration"]
@@ -167,6 +167,18 @@ def test_co_boundary_change_changes_the_loop_check(report, issues):
     travel = {p.percent: p.output.value for p in check.points if p.direction == "up"}
     # travel = (CO - 0) / (40 - 0) * 100 % on LV-201A's segment (common practice)
     assert travel[30] == pytest.approx(75.0) and travel[40] == pytest.approx(100.0)
+
+
+def test_the_report_does_not_depend_on_the_order_of_the_rows(report, index_files):
+    # The same later issue with its rows in reverse order: the same calibration list (natural
+    # tag order, then kind), though the valve that carries each group's loop checks on the
+    # sheet (the last in the index) is now the other one.
+    reordered = index_files.write(NEW[::-1], "diff_new_reversed.xlsx")
+    old = index_files.folder / "diff_old.xlsx"
+    result = runner.invoke(app, ["diff", str(old), str(reordered), "--format", "json"])
+    assert result.exit_code == 1, result.output
+    assert json.loads(result.output)["calibration"] == report["calibration"]
+    assert report["calibration"] == sorted(report["calibration"], key=lambda c: (c["tag"], c["kind"]))
 
 
 def test_loops_affected_in_both_issues(report):

@@ -12,6 +12,7 @@ from collections.abc import Collection
 from typing import Any
 
 from loopdocs.calibration.project_tables import calibration_set
+from loopdocs.model.from_rows import natural_key
 from loopdocs.model.records import Loop, Project
 
 
@@ -36,7 +37,8 @@ def _tables_by_key(project: Project, rename: dict[str, str]) -> dict[tuple[str, 
 
 def changed_tables(old: Project, new: Project, rename: dict[str, str] | None = None,
                    touched: Collection[str] | None = None) -> list[tuple[str, str]]:
-    """``(tag, kind)`` of every table whose points differ, in the order of the new issue.
+    """``(tag, kind)`` of every table whose points differ, in natural tag order, then by
+    kind: the same list however the rows are sorted.
 
     ``touched`` (new names; ``ProjectChanges.touched``) limits the work to the tags whose
     tables may change: the other tags' records and split groups are the same in both issues."""
@@ -53,4 +55,4 @@ def changed_tables(old: Project, new: Project, rename: dict[str, str] | None = N
     for key in list(after) + [k for k in before if k not in after]:
         if key[0] in both and before.get(key) != after.get(key):
             out.append(key)
-    return out
+    return sorted(out, key=lambda key: (natural_key(key[0]), key[1]))

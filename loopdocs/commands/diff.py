@@ -118,6 +118,8 @@ def print_diff(changes: Any, calibration: list[tuple[str, str]], old: Path, new:
         for s in changes.splits:
             splits.add_row(escape(s.controller), escape(s.loop), escape(s.what), escape(s.old), escape(s.new))
         console.print(splits)
+        console.print("These are the settings each split needs; [bold]loopdocs check[/] of the later issue names "
+                      "the index cells that do not hold them yet.")
     if calibration:
         console.print("Calibration tables changed: " + escape(", ".join(f"{tag} ({kind})" for tag, kind in calibration)))
     console.print(f"Loops affected: {escape(', '.join(changes.loops)) or 'none'}")

@@ -133,8 +133,8 @@ def rows_to_compare(old: IndexTable, new: IndexTable, pattern: Any) -> tuple[Ind
     """``old`` and ``new`` cut down to the rows their comparison needs (module docstring);
     ``pattern``: the compiled tag grammar both issues are read with. When the tags both
     issues share are not in the same order in both (the index sorted another way), nothing
-    is cut: which element of a split group comes last in the index decides which carries
-    the group's loop checks.
+    is cut: the order of the rows decides some of what the records hold (which row of a
+    tag written twice counts, the service a loop takes from its first controller).
 
     >>> from pathlib import Path
     >>> from loopdocs.model.tagname import compile_tag_pattern

@@ -79,7 +79,7 @@ class SplitChange:
     new: str
 
     def as_json(self) -> dict[str, str]:
-        return {"controller": self.controller, "what": self.what, "old": self.old, "new": self.new}
+        return {"controller": self.controller, "loop": self.loop, "what": self.what, "old": self.old, "new": self.new}
 
 
 @dataclass(frozen=True)
