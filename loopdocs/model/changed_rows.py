@@ -24,34 +24,55 @@ Example: two issues of 10,000 rows with 40 cells edited keep about 150 rows each
 
 from __future__ import annotations
 
+import re
 from collections import defaultdict
 from dataclasses import replace
 from typing import Any, Iterable
 
 from loopdocs.model.from_rows import loop_id_for, tag_of_cell
-from loopdocs.model.tagname import parse_tag
+from loopdocs.model.tagname import DEFAULT_TAG_PATTERN, parse_tag
 from loopdocs.read.table import IndexRow, IndexTable
 
 
-def _same_cells(a: dict[str, Any], b: dict[str, Any], same_order: bool) -> bool:
-    """Every cell equal in value and type (``1`` and ``True`` compare equal in Python but
-    are different cells). ``same_order``: both dicts hold their keys in the same order
-    (rows of two tables with the same columns), so the types compare as two lists."""
-    if a != b:
-        return False
+#: The last run of digits in a text: the number of a tag in the default grammar.
+_LAST_DIGITS = re.compile(r"([0-9]+)[^0-9]*$")
+
+
+def _types_match(a: dict[str, Any], b: dict[str, Any], same_order: bool) -> bool:
+    """Of two equal dicts of cells, every value of the same type too (``1`` and ``True``
+    compare equal in Python but are different cells). ``same_order``: both hold their keys
+    in the same order (rows of two tables with the same columns): two lists of types."""
     if same_order:
         return list(map(type, a.values())) == list(map(type, b.values()))
     return all(type(value) is type(b[key]) for key, value in a.items())
+
+
+def _tag_names(table: IndexTable, known: dict[str, str]) -> list[str | None]:
+    """The tag each row's record will have (``None``: no Tag cell); ``known``: text of a
+    Tag cell -> the tag, shared by both issues (most rows are in both)."""
+    names: list[str | None] = []
+    for row in table.rows:
+        raw = row.values.get("tag")
+        if raw is None:
+            names.append(None)
+        elif type(raw) is str:
+            name = known.get(raw)
+            if name is None:
+                name = known[raw] = tag_of_cell(raw)
+            names.append(name)
+        else:
+            names.append(tag_of_cell(raw))
+    return names
 
 
 class _Issue:
     """One issue's rows by tag (as its record will name it), and the links between its
     tags (module docstring)."""
 
-    def __init__(self, table: IndexTable) -> None:
+    def __init__(self, table: IndexTable, known: dict[str, str]) -> None:
         self.table = table
-        self.names: list[str | None] = [
-            tag_of_cell(raw) if (raw := row.values.get("tag")) is not None else None for row in table.rows]
+        self.known = known
+        self.names = _tag_names(table, known)
         self.rows: dict[str, list[IndexRow]] = defaultdict(list)
         for name, row in zip(self.names, table.rows):
             if name is not None:
@@ -62,14 +83,19 @@ class _Issue:
         same_order = (self.table.columns == other.table.columns
                       and self.table.extra_columns == other.table.extra_columns)
         out = set(self.rows.keys() ^ other.rows.keys())
+        theirs_by_name = other.rows
         for name, rows in self.rows.items():
-            theirs = other.rows.get(name)
+            theirs = theirs_by_name.get(name)
             if theirs is None:
                 continue
-            if len(rows) != len(theirs) or not all(
-                    _same_cells(a.values, b.values, same_order) and _same_cells(a.extra, b.extra, same_order)
-                    for a, b in zip(rows, theirs)):
+            if len(rows) != len(theirs):
                 out.add(name)
+                continue
+            for a, b in zip(rows, theirs):
+                if (a.values != b.values or a.extra != b.extra or not _types_match(a.values, b.values, same_order)
+                        or (a.extra and not _types_match(a.extra, b.extra, same_order))):
+                    out.add(name)
+                    break
         return out
 
     def order_of(self, names: set[str]) -> list[str]:
@@ -77,37 +103,75 @@ class _Issue:
         return [name for name in self.names if name in names]
 
     def link(self, pattern: Any, loop_ids: dict[tuple[str, Any, type], str | None]) -> None:
-        """Work out the links: Driven By both ways, and the tags of each loop.
-        ``loop_ids``: (tag, Loop cell, its type) -> loop id, shared by both issues (most rows are
-        in both: each is parsed once)."""
+        """Index the links: Driven By both ways, and the candidates for each loop's tags.
+
+        A loop's tags are found from two indexes, worked out for every row without parsing
+        its tag: by the last run of digits of the tag, and by the text of the Loop cell.
+        With the default tag grammar the number is the tag's last run of digits, and a loop
+        id is either the area, variable and number of its tags (so it ends with that
+        number) or, where the Loop cell disagrees with its tag, the cell's text: every tag
+        of loop L is under L's last digits or under L itself. Only these candidates are
+        parsed (:meth:`loop_members`). With a project's own grammar every tag is parsed.
+        ``loop_ids``: (tag, Loop cell, its type) -> loop id, shared by both issues."""
         # by tag, a list: a tag on two rows links through both (the model keeps the first)
+        self.pattern, self.loop_ids = pattern, loop_ids
         self.drivers: dict[str, list[str]] = defaultdict(list)
         self.driven: dict[str, list[str]] = defaultdict(list)
-        self.loops_of: dict[str, list[str]] = defaultdict(list)
-        self.members: dict[str, list[str]] = defaultdict(list)
+        self.candidates: dict[str, list[str]] = defaultdict(list)
+        every_tag = pattern.pattern != DEFAULT_TAG_PATTERN
+        last_digits = _LAST_DIGITS.search
+        known = self.known
         for name, row in zip(self.names, self.table.rows):
             if name is None:
                 continue
             values = row.values
             driver = values.get("driven_by")
             if driver is not None:
-                target = tag_of_cell(driver)
+                target = known.get(driver) if type(driver) is str else None
+                if target is None:
+                    target = tag_of_cell(driver)
                 self.drivers[name].append(target)
                 self.driven[target].append(name)
+            if every_tag:
+                loop = self.loop_of(name, values.get("loop"))
+                if loop is not None:
+                    self.candidates[loop].append(name)
+                continue
+            digits = last_digits(name)
+            if digits is not None:
+                self.candidates[digits.group(1)].append(name)
             given = values.get("loop")
-            key = (name, given, type(given))
-            loop = loop_ids.get(key, "")
-            if loop == "":
-                try:
-                    parts = parse_tag(name, pattern)
-                except ValueError:
-                    loop = None
-                else:
-                    loop = loop_id_for(tag_of_cell(given, upper=False) if given is not None else None, parts)[0]
-                loop_ids[key] = loop
-            if loop is not None:
-                self.loops_of[name].append(loop)
-                self.members[loop].append(name)
+            if given is not None:
+                self.candidates[tag_of_cell(given, upper=False)].append(name)
+
+    def loop_of(self, name: str, given: Any) -> str | None:
+        """The loop id of a row (its tag and Loop cell), None when the tag does not parse."""
+        key = (name, given, type(given))
+        loop = self.loop_ids.get(key, "")
+        if loop == "":
+            try:
+                parts = parse_tag(name, self.pattern)
+            except ValueError:
+                loop = None
+            else:
+                loop = loop_id_for(tag_of_cell(given, upper=False) if given is not None else None, parts)[0]
+            self.loop_ids[key] = loop
+        return loop
+
+    def loop_members(self, name: str) -> list[str]:
+        """Every tag in the loop (or loops, for a tag on two rows) of ``name``."""
+        members: list[str] = []
+        for row in self.rows.get(name, ()):
+            loop = self.loop_of(name, row.values.get("loop"))
+            if loop is None:
+                continue
+            digits = _LAST_DIGITS.search(loop)
+            seen = set(self.candidates.get(loop, ()))
+            if digits is not None:
+                seen.update(self.candidates.get(digits.group(1), ()))
+            members += [other for other in seen
+                        if any(self.loop_of(other, r.values.get("loop")) == loop for r in self.rows.get(other, ()))]
+        return members
 
     def linked(self, names: Iterable[str]) -> set[str]:
         """``names`` and every tag linked to one of them, followed to the end."""
@@ -115,10 +179,7 @@ class _Issue:
         waiting = list(found)
         while waiting:
             name = waiting.pop()
-            near = [*self.drivers.get(name, ()), *self.driven.get(name, ())]
-            for loop in self.loops_of.get(name, ()):
-                near += self.members[loop]
-            for other in near:
+            for other in (*self.drivers.get(name, ()), *self.driven.get(name, ()), *self.loop_members(name)):
                 if other not in found:
                     found.add(other)
                     waiting.append(other)
@@ -146,7 +207,8 @@ def rows_to_compare(old: IndexTable, new: IndexTable, pattern: Any) -> tuple[Ind
     >>> [[row.values["tag"] for row in t.rows] for t in rows_to_compare(old, new, compile_tag_pattern())]
     [['TT-1', 'TIC-1'], ['TT-1', 'TIC-1']]
     """
-    before, after = _Issue(old), _Issue(new)
+    known: dict[str, str] = {}
+    before, after = _Issue(old, known), _Issue(new, known)
     keep = before.differs_from(after)
     same = (before.rows.keys() & after.rows.keys()) - keep
     if before.order_of(same) != after.order_of(same):
