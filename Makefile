@@ -33,6 +33,7 @@ test: $(TESTSTAMP)
 
 bench: $(TESTSTAMP)
 	$(PY) benchmarks/bench_check.py --memory
+	$(PY) benchmarks/bench_diff.py
 	$(PY) benchmarks/scaling.py
 	$(PY) benchmarks/bench_build.py
 
