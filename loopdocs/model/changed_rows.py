@@ -173,17 +173,19 @@ class _Issue:
                         if any(self.loop_of(other, r.values.get("loop")) == loop for r in self.rows.get(other, ()))]
         return members
 
-    def linked(self, names: Iterable[str]) -> set[str]:
-        """``names`` and every tag linked to one of them, followed to the end."""
-        found = set(names)
-        waiting = list(found)
+    def spread(self, names: Iterable[str], keep: set[str]) -> set[str]:
+        """Add to ``keep`` every tag linked to one of ``names`` in this issue, followed to
+        the end; the tags added."""
+        added: set[str] = set()
+        waiting = list(names)
         while waiting:
             name = waiting.pop()
             for other in (*self.drivers.get(name, ()), *self.driven.get(name, ()), *self.loop_members(name)):
-                if other not in found:
-                    found.add(other)
+                if other not in keep:
+                    keep.add(other)
+                    added.add(other)
                     waiting.append(other)
-        return found
+        return added
 
     def cut(self, keep: set[str]) -> IndexTable:
         """The table with only the rows of the tags in ``keep``, in their order."""
@@ -216,9 +218,8 @@ def rows_to_compare(old: IndexTable, new: IndexTable, pattern: Any) -> tuple[Ind
     loop_ids: dict[tuple[str, Any, type], str | None] = {}
     before.link(pattern, loop_ids)
     after.link(pattern, loop_ids)
-    while True:  # a tag kept in one issue is kept in the other, with everything it links to there
-        grown = before.linked(keep) | after.linked(keep)
-        if grown == keep:
-            break
-        keep = grown
+    frontier = set(keep)
+    while frontier:  # a tag kept in one issue is kept in the other, with everything it links to there
+        added = before.spread(frontier, keep)
+        frontier = added | after.spread(frontier | added, keep)
     return before.cut(keep), after.cut(keep)
