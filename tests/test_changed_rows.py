@@ -48,7 +48,7 @@ def _diff(old_table, new_table, grammar: str | None = None) -> dict:
     before, after = build_project(old_table, config)[0], build_project(new_table, config)[0]
     changes = compare_projects(before, after)
     calibration = changed_tables(before, after, {r.old: r.new for r in changes.renamed}, changes.touched)
-    return diff_json(changes, calibration)
+    return diff_json(changes, calibration, before, after)
 
 
 def _tags(table) -> list[str]:

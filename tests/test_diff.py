@@ -94,14 +94,16 @@ def test_json_contract_keys(report):
     assert set(report) == {"added", "removed", "renamed", "changed", "loops", "splits", "calibration"}
     for change in report["changed"]:
         assert set(change) == {"tag", "loop", "fields"}
-        assert all(set(f) == {"column", "old", "new"} for f in change["fields"])
+        assert all(set(f) == {"column", "old", "new", "cell"} for f in change["fields"])
     assert all(set(s) == {"controller", "loop", "what", "old", "new"} for s in report["splits"])
     assert all(set(c) == {"tag", "kind"} for c in report["calibration"])
 
 
-def test_range_change_on_a_transmitter(report):
-    # 0-150 degC -> 0-200 degC: only the Range High cell changed
+def test_range_change_on_a_transmitter(report, index_files):
+    # 0-150 degC -> 0-200 degC: only the Range High cell changed, the first row given
     assert _fields(report, "TT-1203") == {"Range High": ("150", "200")}
+    [change] = [c for c in report["changed"] if c["tag"] == "TT-1203"]
+    assert change["fields"][0]["cell"] == _cell(index_files, "range_high", 0)
     assert {"tag": "TT-1203", "kind": "transmitter"} in report["calibration"]
 
 
@@ -121,10 +123,19 @@ def test_range_change_moves_the_calibration_points(issues):
     assert mid_input(issues[1]) == pytest.approx(100.0)
 
 
-def test_added_removed_and_renamed(report):
-    assert report["added"] == [{"tag": "LT-1501", "loop": "L-1501"}]
-    assert report["removed"] == [{"tag": "FT-1401", "loop": "F-1401"}]
-    assert report["renamed"] == [{"old": "PT-1301", "new": "PT-1302", "old_loop": "P-1301", "new_loop": "P-1302"}]
+def _cell(index_files, key: str, index: int) -> str:
+    """The cell of column ``key`` on the ``index``-th row given to the test workbook."""
+    sheet, row, letter = index_files.cell(key, index)
+    return f"{sheet}!{letter}{row}"
+
+
+def test_added_removed_and_renamed(report, index_files):
+    # each with the cell of its Tag: LT-1501 and PT-1302 in the later issue (3rd and 2nd
+    # rows given), FT-1401 in the earlier one (3rd row given)
+    assert report["added"] == [{"tag": "LT-1501", "loop": "L-1501", "cell": _cell(index_files, "tag", 2)}]
+    assert report["removed"] == [{"tag": "FT-1401", "loop": "F-1401", "cell": _cell(index_files, "tag", 2)}]
+    assert report["renamed"] == [{"old": "PT-1301", "new": "PT-1302", "old_loop": "P-1301", "new_loop": "P-1302",
+                                  "cell": _cell(index_files, "tag", 1)}]
     named = {c["tag"] for c in report["changed"]}
     # a rename is not also an add, a remove or a change; unchanged tags are not named
     assert not named & {"PT-1301", "PT-1302", "TIC-101", "TV-101A", "LIC-201"}
@@ -224,7 +235,7 @@ def test_plain_values():
     assert plain(AirAction("ATC")) == "ATC" and plain(200.0) == "200" and plain(None) == ""
 
 
-def test_change_report_highlights_the_changed_cells(issues, tmp_path):
+def test_change_report_highlights_the_changed_cells(issues, tmp_path, index_files):
     import openpyxl
 
     from loopdocs.read.columns import COLUMNS
@@ -235,7 +246,7 @@ def test_change_report_highlights_the_changed_cells(issues, tmp_path):
     assert result.exit_code == 1, result.output
     book = openpyxl.load_workbook(out)
     listed = [tuple(r) for r in book["Changes"].iter_rows(values_only=True)]
-    assert ("changed", "TT-1203", "T-1203", "Range High", "150", "200") in listed
+    assert ("changed", "TT-1203", "T-1203", "Range High", "150", "200", _cell(index_files, "range_high", 0)) in listed
     rows = book["Rows"]
     headers = [c.value for c in rows[1]]
     assert headers[: len(COLUMNS)] == [c.header for c in COLUMNS]

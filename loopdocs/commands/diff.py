@@ -45,9 +45,9 @@ def diff(old: OldArg, new: NewArg, format: FormatOpt = OutputFormat.text, out: O
         except InputError as exc:
             fail_input(exc)
     if format is OutputFormat.json:
-        emit_json(diff_json(changes, calibration))
+        emit_json(diff_json(changes, calibration, before, after))
     else:
-        print_diff(changes, calibration, old, new)
+        print_diff(changes, calibration, before, after, old, new)
     if out is not None:
         typer.echo(f"wrote {out}", err=format is OutputFormat.json)
     raise typer.Exit(1 if changes.any or calibration else 0)
@@ -73,23 +73,31 @@ def _write_report(out: Path, changes: Any, calibration: list[tuple[str, str]], b
         raise InputError(f"{out}: cannot be written ({exc.strerror or exc})") from None
 
 
-def diff_json(changes: Any, calibration: list[tuple[str, str]]) -> dict[str, Any]:
-    """``{added, removed, renamed, changed, loops, splits, calibration}``."""
+def diff_json(changes: Any, calibration: list[tuple[str, str]], before: Any, after: Any) -> dict[str, Any]:
+    """``{added, removed, renamed, changed, loops, splits, calibration}``; every tag and
+    changed cell with the ``cell`` where it is in its issue (the later one, the earlier for
+    a removed tag: ``model.changes.cell_of``)."""
+    from loopdocs.model.changes import cell_of
+
     return {
-        "added": [{"tag": t.tag, "loop": t.loop} for t in changes.added],
-        "removed": [{"tag": t.tag, "loop": t.loop} for t in changes.removed],
-        "renamed": [r.as_json() for r in changes.renamed],
-        "changed": [c.as_json() for c in changes.changed],
+        "added": [{"tag": t.tag, "loop": t.loop, "cell": cell_of(after, t.tag)} for t in changes.added],
+        "removed": [{"tag": t.tag, "loop": t.loop, "cell": cell_of(before, t.tag)} for t in changes.removed],
+        "renamed": [{**r.as_json(), "cell": cell_of(after, r.new)} for r in changes.renamed],
+        "changed": [{"tag": c.tag, "loop": c.loop,
+                     "fields": [{**f.as_json(), "cell": cell_of(after, c.tag, f.key)} for f in c.fields]}
+                    for c in changes.changed],
         "loops": list(changes.loops),
         "splits": [s.as_json() for s in changes.splits],
         "calibration": [{"tag": tag, "kind": kind} for tag, kind in calibration],
     }
 
 
-def print_diff(changes: Any, calibration: list[tuple[str, str]], old: Path, new: Path) -> None:
+def print_diff(changes: Any, calibration: list[tuple[str, str]], before: Any, after: Any, old: Path, new: Path) -> None:
     from rich.console import Console
     from rich.markup import escape
     from rich.table import Table
+
+    from loopdocs.model.changes import cell_of
 
     console = Console(highlight=False)
     console.print(f"[bold]{escape(str(old))}[/] -> [bold]{escape(str(new))}[/]")
@@ -97,18 +105,19 @@ def print_diff(changes: Any, calibration: list[tuple[str, str]], old: Path, new:
         console.print("No differences.")
         return
     table = Table(title="Tags", title_justify="left")
-    for head in ("Change", "Tag", "Loop", "Column", "Old", "New"):
+    for head in ("Change", "Tag", "Loop", "Column", "Old", "New", "Cell"):
         table.add_column(head)
     for t in changes.added:
-        table.add_row("added", escape(t.tag), escape(t.loop), "", "", "")
+        table.add_row("added", escape(t.tag), escape(t.loop), "", "", "", escape(cell_of(after, t.tag)))
     for t in changes.removed:
-        table.add_row("removed", escape(t.tag), escape(t.loop), "", "", "")
+        table.add_row("removed", escape(t.tag), escape(t.loop), "", "", "", escape(cell_of(before, t.tag)) + " (earlier)")
     for r in changes.renamed:
-        table.add_row("renamed", escape(r.new), escape(r.new_loop), "Tag", escape(r.old), escape(r.new))
+        table.add_row("renamed", escape(r.new), escape(r.new_loop), "Tag", escape(r.old), escape(r.new),
+                      escape(cell_of(after, r.new)))
     for c in changes.changed:
         for i, f in enumerate(c.fields):
             table.add_row("changed" if i == 0 else "", escape(c.tag) if i == 0 else "", escape(c.loop) if i == 0 else "",
-                          escape(f.column), escape(f.old), escape(f.new))
+                          escape(f.column), escape(f.old), escape(f.new), escape(cell_of(after, c.tag, f.key)))
     if table.row_count:
         console.print(table)
     if changes.splits:

@@ -204,6 +204,32 @@ def cell_changes(old: dict[str, str], new: dict[str, str]) -> tuple[FieldChange,
     return tuple(out)
 
 
+def cell_of(project: Project, tag: str, key: str = "tag") -> str:
+    """Where an engineer finds column ``key`` (a column key, ``loop_given`` or
+    ``extra:<header>``) of ``tag`` in ``project``'s index: ``"Index!I7"``; the row's Tag cell
+    when that issue has no such column; '' when the tag is not in it.
+
+    >>> from pathlib import Path
+    >>> from loopdocs.model.from_rows import build_project
+    >>> from loopdocs.read.table import IndexRow, IndexTable
+    >>> table = IndexTable(Path("i.xlsx"), "Index", 4, {"tag": "B", "range_high": "I"}, {"Spare": "AC"},
+    ...                    [IndexRow(7, {"tag": "TT-1203", "range_high": 200}, {"Spare": "x"})])
+    >>> project = build_project(table)[0]
+    >>> cell_of(project, "TT-1203", "range_high"), cell_of(project, "TT-1203", "extra:Spare"), cell_of(project, "TT-9")
+    ('Index!I7', 'Index!AC7', '')
+    """
+    record = project.tags.get(tag)
+    if record is None:
+        return ""
+    if key.startswith("extra:"):
+        letter = project.extra_columns.get(key.partition(":")[2])
+        if letter is not None:
+            return f"{project.sheet}!{letter}{record.row}"
+        key = "tag"
+    location = project.cell(record, "loop" if key == "loop_given" else key)
+    return str(location) if location is not None else ""
+
+
 # --------------------------------------------------------------------------- tags
 
 

@@ -3,7 +3,8 @@ rows of the tags concerned, the changed cells highlighted.
 
 Sheets:
 - ``Changes``: one line per added, removed or renamed tag and per changed cell (change,
-  tag, loop, column, old, new), then the split-group values and the calibration tables
+  tag, loop, column, old, new, and the cell: in the later issue, in the earlier one for
+  a removed tag), then the split-group values and the calibration tables
   that change as a consequence;
 - ``Rows``: the index columns (headers as in the index) with one row per tag concerned:
   added tags (whole row filled green), renamed and changed tags as in the new issue
@@ -16,7 +17,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from loopdocs.model.changes import ProjectChanges, plain
+from loopdocs.model.changes import ProjectChanges, cell_of, plain
 from loopdocs.model.records import Project, Tag
 
 ADDED_FILL = "C6EFCE"
@@ -47,18 +48,18 @@ def write_change_report(path: Path, changes: ProjectChanges, calibration: list[t
     ws.append([f"Changes from {Path(old.index_path).name} to {Path(new.index_path).name}"])
     ws["A1"].font = Font(bold=True, size=13)
     ws.append([])
-    ws.append(["Change", "Tag", "Loop", "Column", "Old", "New"])
+    ws.append(["Change", "Tag", "Loop", "Column", "Old", "New", "Cell"])
     for cell in ws[ws.max_row]:
         cell.font = bold
     for t in changes.added:
-        ws.append(["added", t.tag, t.loop, "", "", ""])
+        ws.append(["added", t.tag, t.loop, "", "", "", cell_of(new, t.tag)])
     for t in changes.removed:
-        ws.append(["removed", t.tag, t.loop, "", "", ""])
+        ws.append(["removed", t.tag, t.loop, "", "", "", f"{cell_of(old, t.tag)} (earlier issue)"])
     for r in changes.renamed:
-        ws.append(["renamed", r.new, r.new_loop, "Tag", r.old, r.new])
+        ws.append(["renamed", r.new, r.new_loop, "Tag", r.old, r.new, cell_of(new, r.new)])
     for c in changes.changed:
         for f in c.fields:
-            ws.append(["changed", c.tag, c.loop, f.column, f.old, f.new])
+            ws.append(["changed", c.tag, c.loop, f.column, f.old, f.new, cell_of(new, c.tag, f.key)])
     if changes.splits:
         ws.append([])
         ws.append(["Split group", "Controller", "Loop", "What", "Old", "New"])
@@ -73,7 +74,7 @@ def write_change_report(path: Path, changes: ProjectChanges, calibration: list[t
             cell.font = bold
         for tag, kind in calibration:
             ws.append(["calibration", tag, kind])
-    for letter, width in zip("ABCDEF", (12, 14, 10, 34, 40, 40)):
+    for letter, width in zip("ABCDEFG", (12, 14, 10, 34, 40, 40, 22)):
         ws.column_dimensions[letter].width = width
 
     rows = wb.create_sheet("Rows")
