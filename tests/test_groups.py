@@ -292,7 +292,8 @@ def test_groups_and_findings_do_not_depend_on_row_order(rows, rnd):
 def test_loop_check_notes_use_the_groups_exact_travel_error(rows):
     # The loop-check tables of a project take the split group's travel error (worked out at
     # the breakpoints of the two piecewise-linear curves, docs/design.md §4.4) instead of
-    # searching a 0.1 % CO grid again: every table must come out as the grid search gives it,
+    # searching a 0.1 % CO grid again (the grid search, a brute-force check, is the reference):
+    # every table must come out as the grid search gives it,
     # the "settings do not realise this intent" note included (random settings, most wrong).
     from loopdocs.calc.tables import loop_check_table
     from loopdocs.calibration.project_tables import calibration_set

@@ -16,8 +16,9 @@ the row number aside) and keeps, in each issue, only:
 Every result of :func:`loopdocs.model.changes.compare_projects` and of the calibration
 comparison rests on a tag's own row and on the rows of its loop and split group, so the
 cut tables give the same answer as the whole ones; a tag left out is in both issues
-with equal rows and equal neighbours, and is reported by neither. When the two issues do
-not share one project configuration (another tag grammar, say), nothing is cut.
+with equal rows and equal neighbours, and is reported by neither. Two issues read with
+different tag grammars are not cut (``loopdocs.model.loading.load_pair``): the same row
+may then be another tag.
 
 Example: two issues of 10,000 rows with 40 cells edited keep about 150 rows each.
 """

@@ -28,7 +28,9 @@ def load_project(path: Path, pending: PendingRead | None = None) -> tuple[Projec
 def load_pair(old: Path, new: Path) -> tuple[Project, Project]:
     """Two issues of the index (files or project folders) read for comparing them: only the
     rows their comparison needs become records (``loopdocs.model.changed_rows``; every row
-    when the two do not share one ``loopdocs.toml`` configuration). Each workbook parses
+    when their ``loopdocs.toml`` give different tag grammars: the only setting records are
+    built with; a title block or sheet setting changed between issues cuts as usual). Each
+    workbook parses
     on a thread of its own (``loopdocs.read.background``).
     Raises ``InputError`` when either cannot be read at all (the earlier one named first)."""
     from loopdocs.model.changed_rows import rows_to_compare
@@ -37,7 +39,7 @@ def load_pair(old: Path, new: Path) -> tuple[Project, Project]:
     earlier, later = start_reading(Path(old)), start_reading(Path(new))
     old_paths, old_config, old_table = earlier.result(scan_formulas=False)  # notices are findings: not compared
     new_paths, new_config, new_table = later.result(scan_formulas=False)
-    if old_config == new_config:
+    if old_config.index.tag_pattern == new_config.index.tag_pattern:
         try:
             pattern = compile_tag_pattern(old_config.index.tag_pattern)
         except TagPatternError as exc:

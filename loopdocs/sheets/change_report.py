@@ -15,7 +15,6 @@ Sheets:
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
 
 from loopdocs.model.changes import ProjectChanges, cell_of, plain
 from loopdocs.model.records import Project, Tag
